@@ -1,0 +1,552 @@
+"""Orchestration: call the rooms in order for a calibration or a measuring session.
+
+Reads photos through :mod:`beamwall.images`, normalises them (:mod:`beamwall.linear`), maps
+them to the wall (:mod:`beamwall.wall`), builds the distribution
+(:mod:`beamwall.distribution`), derives the figures (:mod:`beamwall.figures`) and applies the
+calibration (:mod:`beamwall.calibrate`). Warnings are collected into the results; progress is
+reported through a callback; nothing is printed here.
+
+Uncertainty (k=1) until the full budget lands: the peak intensity combines the calibration's
+relative uncertainty with twice the relative distance uncertainty (I = E d^2); throw half of
+that (throw ~ sqrt(I)); flux the calibration's alone (the wall's areas come from the mapping,
+not the distance); the angles the distance term (d theta = -sin(theta) cos(theta) dd / d) and
+the grid's resolution (a rectangular half-cell, u = step / (2 sqrt 3)) [GUM].
+
+References
+----------
+.. [GUM] JCGM 100:2008, 5.1.2 (propagation for uncorrelated inputs) and 4.3.7 (rectangular
+   distribution, u = a / sqrt 3).
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from beamwall import __version__
+from beamwall import images as img
+from beamwall import linear, wall
+from beamwall.calibrate import (
+    Calibration,
+    ReferenceFit,
+    fit_lamp_reference,
+    fit_lux_reference,
+)
+from beamwall.constants import REC709_LUMINANCE_WEIGHTS
+from beamwall.distribution import find_axis, intensity_map, polar_distribution, smooth_nan
+from beamwall.errors import CalibrationError, ImageError, InputError
+from beamwall.figures import (
+    angle_summary,
+    clipped_peak_fraction,
+    cumulative_cone_flux,
+    largest_cone_half_angle_deg,
+    saturated_fraction,
+    throw_m,
+)
+from beamwall.results import InputFile, SessionResult, ShotResult
+from beamwall.session import CalibrationSession, CameraSpec, Session, ShotSpec, WallSpec
+
+__all__ = ["measure_session", "calibrate_session", "ProgressCallback", "ShotSignal"]
+
+#: progress(stage, done, total): e.g. ("shot 'wide, high'", 1, 4).
+ProgressCallback = Callable[[str, int, int], None]
+
+#: Share of the 50 % region that may be clipped before the peak is refused (common practice,
+#: no source: beyond this the hidden core can hold a markedly higher maximum).
+MAX_CLIPPED_PEAK_FRACTION: float = 0.01
+
+
+def _noop(stage: str, done: int, total: int) -> None:
+    return None
+
+
+def _utc_now() -> str:
+    return _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+@dataclass(frozen=True)
+class ShotSignal:
+    """A shot's signal on the wall, with what it was made from."""
+
+    grid: Any                      # wall.WallGrid of exposure-normalised signal
+    first_frame: img.Frame
+    encoding: str
+    focal_length_px: float | None
+    exposures: tuple[linear.Exposure, ...]
+    source_pixels_per_cell: float
+    inputs: tuple[InputFile, ...]
+    warnings: tuple[str, ...]
+
+
+def _resolve_exposure(
+    frame: img.Frame,
+    index: int,
+    *,
+    camera: CameraSpec,
+    own: dict[str, Any],
+    where: str,
+    file: str,
+) -> linear.Exposure:
+    """Exposure of one image: the shot's own values, then EXIF, then ``[camera]``."""
+    exposures_s = own.get("exposures_s")
+    values: dict[str, float | None] = {}
+    t = exposures_s[index] if exposures_s else own.get("exposure_s")
+    values["exposure_s"] = t if t is not None else (
+        frame.exposure_s if frame.exposure_s else camera.exposure_s
+    )
+    for key in ("f_number", "iso"):
+        v = own.get(key)
+        if v is None:
+            v = getattr(frame, key) or getattr(camera, key)
+        values[key] = v
+    for key, v in values.items():
+        if v is None:
+            raise InputError(
+                f"no {key} for {frame.path.name}: the photo carries no EXIF value; give "
+                f"'{key}' in [camera] or in the {where}",
+                file=file,
+                field=f"{where} {key}",
+            )
+    return linear.Exposure(
+        exposure_s=float(values["exposure_s"]),  # type: ignore[arg-type]
+        f_number=float(values["f_number"]),  # type: ignore[arg-type]
+        iso=float(values["iso"]),  # type: ignore[arg-type]
+    )
+
+
+def _mapping(spec: WallSpec, *, file: str) -> wall.WallMapping:
+    if spec.points is None:
+        raise InputError(
+            "marker-based wall mapping (setup_image) is not available yet; give the wall "
+            "points instead",
+            file=file,
+            field="[wall] setup_image",
+        )
+    pts = np.asarray(spec.points, dtype=np.float64)
+    return wall.fit_homography(pts[:, :2], pts[:, 2:])
+
+
+def load_shot_signal(
+    images: Sequence[Path],
+    darks: Sequence[Path],
+    *,
+    camera: CameraSpec,
+    own: dict[str, Any],
+    mapping: wall.WallMapping,
+    where: str,
+    file: str,
+    weights: tuple[float, float, float] = REC709_LUMINANCE_WEIGHTS,
+) -> ShotSignal:
+    """Read, normalise and map to the wall one shot (or the reference) of a session."""
+    frames = [img.read_frame(p) for p in images]
+    dark_frames = [img.read_frame(p) for p in darks]
+    first = frames[0]
+    for f in frames[1:] + dark_frames:
+        if f.shape != first.shape:
+            raise ImageError(
+                f"size {f.shape[1]}x{f.shape[0]} differs from {first.path.name}'s "
+                f"{first.shape[1]}x{first.shape[0]}",
+                file=f.path,
+            )
+    encoding = camera.encoding or ("srgb" if first.bit_depth == 8 else "linear")
+    exposures = tuple(
+        _resolve_exposure(f, i, camera=camera, own=own, where=where, file=file)
+        for i, f in enumerate(frames)
+    )
+    if len(dark_frames) == 0:
+        dark_arrays: list[np.ndarray | None] = [None] * len(frames)
+    elif len(dark_frames) == 1:
+        # One dark for a bracket is taken at the first image's settings (the contract): it
+        # applies to that image; the others are taken as dark-free.
+        dark_arrays = [dark_frames[0].pixels] + [None] * (len(frames) - 1)
+    else:
+        dark_arrays = [d.pixels for d in dark_frames]
+    focal_px = img.focal_length_px(first, override_px=camera.focal_length_px)
+    white = camera.white_level
+    signal = linear.normalise(
+        [f.pixels for f in frames],
+        exposures,
+        darks=dark_arrays,
+        encoding=encoding,
+        black_level=camera.black_level or 0.0,
+        white_level=white,
+        focal_length_px=focal_px,
+        weights=weights,
+    )
+    grid = wall.resample_to_wall(signal.value, signal.saturated, mapping)
+    fp = grid.footprint_mm
+    # Photo pixels per grid cell (area), for the statistics of averages over the wall.
+    wall_area_mm2 = 0.5 * abs(
+        float(np.dot(fp[:, 0], np.roll(fp[:, 1], 1)) - np.dot(fp[:, 1], np.roll(fp[:, 0], 1)))
+    )
+    px_per_cell = first.shape[0] * first.shape[1] / max(wall_area_mm2 / grid.step_mm**2, 1.0)
+    inputs = tuple(InputFile("image", str(f.path), f.sha256) for f in frames) + tuple(
+        InputFile("dark", str(f.path), f.sha256) for f in dark_frames
+    )
+    return ShotSignal(
+        grid=grid,
+        first_frame=first,
+        encoding=encoding,
+        focal_length_px=focal_px,
+        exposures=exposures,
+        source_pixels_per_cell=float(px_per_cell),
+        inputs=inputs,
+        warnings=tuple(signal.warnings),
+    )
+
+
+def _shot_own(shot: ShotSpec) -> dict[str, Any]:
+    return {
+        "exposures_s": shot.exposures_s,
+        "exposure_s": shot.exposure_s,
+        "f_number": shot.f_number,
+        "iso": shot.iso,
+    }
+
+
+def _angle_sigma_deg(
+    full_angle_deg: float | None, *, distance_m: float, distance_sigma_m: float, step_mm: float
+) -> float | None:
+    if full_angle_deg is None:
+        return None
+    half = np.radians(full_angle_deg / 2.0)
+    d_mm = distance_m * 1000.0
+    u_dist = np.sin(half) * np.cos(half) * distance_sigma_m / distance_m
+    # Resolution: a rectangular half-cell on the wall, seen at the crossing's angle; averaged
+    # over azimuths this bounds rather than adds (kept as a floor).
+    u_res = (step_mm / (2.0 * np.sqrt(3.0))) * np.cos(half) ** 2 / d_mm
+    return float(2.0 * np.degrees(np.hypot(u_dist, u_res)))
+
+
+def analyse_shot(
+    sig: ShotSignal,
+    *,
+    label: str,
+    zoom: str | None,
+    mode: str | None,
+    distance_m: float,
+    distance_sigma_m: float,
+    axis_mm: tuple[float, float] | None,
+    calibration: Calibration | None,
+    file: str,
+    where: str,
+) -> ShotResult:
+    """Figures of one shot from its signal on the wall."""
+    warnings: list[str] = list(sig.warnings)
+    k = calibration.lux_per_signal if calibration is not None else 1.0
+    grid = sig.grid
+    from dataclasses import replace
+
+    illum = replace(grid, values=(grid.values * np.float32(k)).astype(np.float32))
+    if axis_mm is None:
+        axis = find_axis(illum, distance_m=distance_m)
+    else:
+        axis = (float(axis_mm[0]), float(axis_mm[1]))
+    imap = intensity_map(illum, axis_mm=axis, distance_m=distance_m)
+    unit = "cd" if calibration is not None else "relative"
+    dist = polar_distribution(imap, axis_mm=axis, distance_m=distance_m, unit=unit)
+    peak = dist.peak
+
+    clipped = clipped_peak_fraction(imap, peak=peak)
+    if clipped > MAX_CLIPPED_PEAK_FRACTION:
+        raise ImageError(
+            f"the hotspot is clipped in every exposure ({100 * clipped:.1f} % of the 50 % "
+            "region): shorten the exposure, or add a shorter one to the bracket",
+            file=file,
+            field=where,
+        )
+    if clipped > 0:
+        warnings.append(
+            f"{100 * clipped:.2f} % of the 50 % region is clipped in every exposure: the peak "
+            "may read slightly low"
+        )
+    sat_frac = saturated_fraction(imap, peak=peak)
+
+    beam = angle_summary(dist.beam_half_angle_deg)
+    field = angle_summary(dist.field_half_angle_deg)
+    for name, s in (("beam angle (50 %)", beam), ("field angle (10 %)", field)):
+        if s.mean_deg is None:
+            warnings.append(
+                f"{name}: the crossing lies outside the photo at every azimuth; not reported"
+            )
+        elif s.found_fraction < 1.0:
+            warnings.append(
+                f"{name}: the crossing lies outside the photo at "
+                f"{100 * (1 - s.found_fraction):.0f} % of azimuths; mean of the others"
+            )
+
+    radius_mm = wall.largest_inscribed_radius_mm(grid.footprint_mm, axis) - grid.step_mm
+    alpha = largest_cone_half_angle_deg(radius_mm, distance_m=distance_m)
+    fill = smooth_nan(illum.values, 3.0)
+    cone_deg, cone_flux = cumulative_cone_flux(
+        illum, axis_mm=axis, distance_m=distance_m, max_half_angle_deg=max(alpha, 0.0),
+        fill=np.nan_to_num(fill, nan=0.0),
+    )
+    flux = float(cone_flux[-1]) if alpha > 0 else None
+    if alpha <= 0:
+        warnings.append("the beam axis is at the photo's edge: no flux cone fits in the photo")
+
+    calibrated = calibration is not None
+    cal_rel = calibration.relative_sigma if calibration is not None else 0.0
+    d_rel = distance_sigma_m / distance_m
+    peak_rel = float(np.hypot(cal_rel, 2.0 * d_rel))
+    peak_cd = peak if calibrated else None
+    thr = throw_m(peak) if calibrated else None
+    return ShotResult(
+        label=label,
+        zoom=zoom,
+        mode=mode,
+        beam_angle_deg=beam.mean_deg,
+        field_angle_deg=field.mean_deg,
+        peak_intensity_cd=peak_cd,
+        throw_m=thr,
+        flux_lm=flux if calibrated else None,
+        flux_half_angle_deg=alpha if alpha > 0 else None,
+        axis_mm=axis,
+        saturated_fraction=sat_frac,
+        relative_peak_intensity=1.0,
+        relative_flux=1.0,
+        warnings=tuple(warnings),
+        beam_angle_sigma_deg=_angle_sigma_deg(
+            beam.mean_deg, distance_m=distance_m, distance_sigma_m=distance_sigma_m,
+            step_mm=grid.step_mm,
+        ),
+        field_angle_sigma_deg=_angle_sigma_deg(
+            field.mean_deg, distance_m=distance_m, distance_sigma_m=distance_sigma_m,
+            step_mm=grid.step_mm,
+        ),
+        peak_intensity_sigma_cd=peak * peak_rel if calibrated else None,
+        throw_sigma_m=(thr * 0.5 * peak_rel) if thr is not None else None,
+        flux_sigma_lm=(flux * cal_rel) if (calibrated and flux is not None) else None,
+        beam_angle_min_deg=beam.min_deg,
+        beam_angle_max_deg=beam.max_deg,
+        field_angle_min_deg=field.min_deg,
+        field_angle_max_deg=field.max_deg,
+        relative_peak_signal=peak / k,
+        distance_m=distance_m,
+        cone_half_angle_deg=cone_deg,
+        cone_flux=cone_flux,
+        distribution=dist,
+        intensity_map=imap,
+        inputs=sig.inputs,
+    )
+
+
+def _with_relative(shots: list[ShotResult]) -> list[ShotResult]:
+    from dataclasses import replace
+
+    if not shots:
+        return shots
+    first = shots[0]
+    out = []
+    for s in shots:
+        rel_peak = (s.relative_peak_signal or 0.0) / (first.relative_peak_signal or 1.0)
+        rel_flux = None
+        if (
+            s.cone_flux is not None and first.cone_flux is not None
+            and s.flux_half_angle_deg and first.flux_half_angle_deg
+        ):
+            n = min(len(s.cone_flux), len(first.cone_flux))
+            base = float(first.cone_flux[n - 1])
+            if base > 0:
+                rel_flux = float(s.cone_flux[n - 1]) / base
+        out.append(replace(s, relative_peak_intensity=float(rel_peak), relative_flux=rel_flux))
+    return out
+
+
+def check_calibration(
+    calibration: Calibration, sig: ShotSignal, *, force: bool, file: str
+) -> list[str]:
+    """Refuse (or, with ``force``, warn about) a calibration made for another camera."""
+    problems = []
+    f = sig.first_frame
+    if calibration.encoding != sig.encoding:
+        problems.append(
+            f"made for encoding '{calibration.encoding}', the photos are '{sig.encoding}'"
+        )
+    for key, have in (("camera_make", f.make), ("camera_model", f.model)):
+        want = getattr(calibration, key)
+        if want and have and want.strip() != have.strip():
+            problems.append(f"made for {key.split('_')[1]} '{want}', the photos are '{have}'")
+    warnings = []
+    size = (f.shape[1], f.shape[0])
+    if calibration.image_size_px and tuple(calibration.image_size_px) != size:
+        warnings.append(
+            f"calibration photos were {calibration.image_size_px[0]}x"
+            f"{calibration.image_size_px[1]} px, these are {size[0]}x{size[1]}: same lens and "
+            "processing?"
+        )
+    if problems:
+        msg = "; ".join(problems)
+        if not force:
+            raise CalibrationError(msg + " (use --force to apply it anyway)", file=file)
+        warnings.append("calibration applied with --force although " + msg)
+    return warnings
+
+
+def measure_session(
+    session: Session,
+    calibration: Calibration | None,
+    *,
+    force: bool = False,
+    progress: ProgressCallback = _noop,
+    calibration_file: str | None = None,
+) -> SessionResult:
+    """Measure every shot of a session.
+
+    Parameters
+    ----------
+    session : Session
+    calibration : Calibration or None
+        Without one, angles and ``relative_*`` figures only.
+    force : bool, keyword-only
+        Apply a calibration made for another camera or encoding (with a warning).
+    progress : callable, keyword-only
+
+    Returns
+    -------
+    SessionResult
+    """
+    file = str(session.path)
+    mapping = _mapping(session.wall, file=file)
+    total = len(session.shots)
+    results: list[ShotResult] = []
+    inputs: list[InputFile] = [InputFile("session", file, img.sha256_file(session.path))]
+    for i, shot in enumerate(session.shots):
+        progress(shot.label, i, total)
+        where = f'[[shot]] {i + 1} ("{shot.label}")'
+        sig = load_shot_signal(
+            shot.images, shot.darks, camera=session.camera, own=_shot_own(shot),
+            mapping=mapping, where=where, file=file,
+        )
+        extra: list[str] = []
+        if calibration is not None:
+            extra = check_calibration(calibration, sig, force=force, file=calibration_file or "")
+        res = analyse_shot(
+            sig, label=shot.label, zoom=shot.zoom, mode=shot.mode,
+            distance_m=session.rig.distance_m,
+            distance_sigma_m=session.rig.distance_sigma_m or 0.0,
+            axis_mm=session.wall.axis_mm, calibration=calibration, file=file, where=where,
+        )
+        if extra:
+            from dataclasses import replace
+
+            res = replace(res, warnings=tuple(extra) + res.warnings)
+        results.append(res)
+        inputs.extend(sig.inputs)
+    progress("done", total, total)
+    results = _with_relative(results)
+    cal_summary = None
+    if calibration is not None:
+        cal_summary = {
+            "file": calibration_file,
+            "lux_per_signal": calibration.lux_per_signal,
+            "lux_per_signal_sigma": calibration.lux_per_signal_sigma,
+            "camera_make": calibration.camera_make,
+            "camera_model": calibration.camera_model,
+            "encoding": calibration.encoding,
+            "reference": calibration.reference,
+            "created_utc": calibration.created_utc,
+        }
+        if calibration_file:
+            inputs.append(
+                InputFile("calibration", calibration_file, img.sha256_file(Path(calibration_file)))
+            )
+    return SessionResult(
+        beamwall_version=__version__,
+        calibrated=calibration is not None,
+        shots=tuple(results),
+        title=session.title,
+        session_file=file,
+        calibration=cal_summary,
+        inputs=tuple(inputs),
+        created_utc=_utc_now(),
+        settings={
+            "distance_m": session.rig.distance_m,
+            "distance_sigma_m": session.rig.distance_sigma_m,
+            "wall_rms_error_mm": mapping.rms_error_mm,
+            "wall_points": mapping.n_points,
+            "axis_mm": None if session.wall.axis_mm is None else list(session.wall.axis_mm),
+        },
+    )
+
+
+def calibrate_session(
+    cs: CalibrationSession, *, progress: ProgressCallback = _noop
+) -> Calibration:
+    """Make a calibration from a calibration session (a reference lamp or a lux reading)."""
+    file = str(cs.path)
+    ref = cs.reference
+    progress("reference", 0, 1)
+    mapping = _mapping(cs.wall, file=file)
+    own = {"exposures_s": ref.exposures_s, "exposure_s": None, "f_number": None, "iso": None}
+    sig = load_shot_signal(
+        ref.images, ref.darks, camera=cs.camera, own=own, mapping=mapping,
+        where="[reference]", file=file,
+    )
+    fit: ReferenceFit
+    if ref.intensity_cd is not None:
+        if ref.distance_m is None or ref.axis_mm is None:
+            raise InputError("needs distance_m and axis_mm with intensity_cd", file=file,
+                             field="[reference]")
+        fit = fit_lamp_reference(
+            sig.grid, intensity_cd=ref.intensity_cd, distance_m=ref.distance_m,
+            axis_mm=ref.axis_mm, intensity_sigma_cd=ref.intensity_sigma_cd or 0.0,
+            distance_sigma_m=ref.distance_sigma_m or 0.0,
+            source_pixels_per_cell=sig.source_pixels_per_cell,
+        )
+        reference = {
+            "form": "lamp", "intensity_cd": ref.intensity_cd,
+            "intensity_sigma_cd": ref.intensity_sigma_cd, "distance_m": ref.distance_m,
+            "distance_sigma_m": ref.distance_sigma_m, "axis_mm": list(ref.axis_mm),
+            "cct_k": ref.cct_k,
+        }
+    elif ref.illuminance_lx is not None and ref.at_mm is not None:
+        fit = fit_lux_reference(
+            sig.grid, illuminance_lx=ref.illuminance_lx, at_mm=ref.at_mm,
+            illuminance_sigma_lx=ref.illuminance_sigma_lx or 0.0,
+            source_pixels_per_cell=sig.source_pixels_per_cell,
+        )
+        reference = {
+            "form": "lux", "illuminance_lx": ref.illuminance_lx,
+            "illuminance_sigma_lx": ref.illuminance_sigma_lx, "at_mm": list(ref.at_mm),
+            "cct_k": ref.cct_k,
+        }
+    else:
+        raise InputError("give intensity_cd with distance_m and axis_mm, or illuminance_lx "
+                         "with at_mm", file=file, field="[reference]")
+    progress("reference", 1, 1)
+    f = sig.first_frame
+    e0 = sig.exposures[0]
+    warnings = list(sig.warnings)
+    if fit.scatter_fraction > 0.05:
+        warnings.append(
+            f"the reference disc varies by {100 * fit.scatter_fraction:.1f} % (std): is the "
+            "reference lamp even near its axis, and the wall matte?"
+        )
+    inputs = (
+        {"role": "calibration session", "path": file, "sha256": img.sha256_file(cs.path)},
+        *({"role": i.role, "path": i.path, "sha256": i.sha256} for i in sig.inputs),
+    )
+    return Calibration(
+        lux_per_signal=fit.lux_per_signal,
+        lux_per_signal_sigma=fit.lux_per_signal_sigma,
+        encoding=sig.encoding,
+        luminance_weights=REC709_LUMINANCE_WEIGHTS,
+        camera_make=f.make,
+        camera_model=f.model,
+        image_size_px=(f.shape[1], f.shape[0]),
+        focal_length_px=sig.focal_length_px,
+        exposure={"exposure_s": e0.exposure_s, "f_number": e0.f_number, "iso": e0.iso},
+        reference=reference,
+        budget=fit.budget,
+        warnings=tuple(warnings),
+        created_utc=_utc_now(),
+        beamwall_version=__version__,
+        inputs=inputs,
+    )
