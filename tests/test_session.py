@@ -466,6 +466,9 @@ BAD_SESSIONS: list[tuple[dict[str, Any], str]] = [
      S2 + r"source_cie_illuminant: must be a string"),
     ({"shot.0.claimed_lm": -1200}, S1 + r"claimed_lm: must be positive"),
     ({"shot.0.claimed_throw_m": False}, S1 + r"claimed_throw_m: must be a number, got boolean"),
+    ({"shot.0.led_amps": 0.8}, S1 + r"led_amps: unknown key.*under \[shot\.electrical\]"),
+    ({"label": "x"}, r"session\.toml: label: unknown key 'label' \(did you mean it under "
+     r"\[\[shot\]\]\?"),
     ({"shot.0.lable": "x"}, S1 + r"lable: unknown key 'lable' \(did you mean 'label'\?\)"),
     # [electrical] and [shot.electrical]
     ({"electrical.led_amps": 0.8},

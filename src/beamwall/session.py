@@ -1017,8 +1017,8 @@ def _top_hints(tables: Mapping[str, tuple[str, ...]]) -> dict[str, str]:
     hints: dict[str, str] = {}
     for name, keys in tables.items():
         for key in keys:
-            hints.setdefault(key, f"did you mean it under [{name}]? a key belongs to the "
-                                  "table header above it")
+            hints.setdefault(key, f"did you mean it under {_top_name(name)}? a key belongs to "
+                                  "the table header above it")
     return hints
 
 
@@ -1033,7 +1033,9 @@ def _read_shot(
     label = cast(str, r.string(table, "label", shot_field(number), required=True,
                                non_blank=True))
     w = shot_field(number, label)
-    r.check_keys(table, _SHOT_KEYS, w)
+    r.check_keys(table, _SHOT_KEYS, w, hints={
+        k: "did you mean it under [shot.electrical]? write that header below the shot's keys"
+        for k in _ELECTRICAL_KEYS})
     images = r.files(table, "images", w, required=True)
     _one_of(r, table, _SOURCE_COLOUR_KEYS, w)
     cie = r.string(table, "source_cie_illuminant", w, non_blank=True)
@@ -1103,7 +1105,7 @@ def load_session(path: str | os.PathLike[str]) -> Session:
     doc = r.load()
     r.check_keys(doc, _SESSION_TOP, "", hints=_top_hints({
         "rig": _RIG_KEYS, "wall": _WALL_KEYS, "camera": _CAMERA_KEYS,
-        "electrical": _ELECTRICAL_KEYS, "spectral": _SPECTRAL_KEYS,
+        "electrical": _ELECTRICAL_KEYS, "spectral": _SPECTRAL_KEYS, "shot": _SHOT_KEYS,
     }))
     title = r.string(doc, "title", "")
     rig = _read_rig(r, doc)
