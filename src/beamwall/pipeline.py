@@ -48,8 +48,16 @@ from beamwall.figures import (
     saturated_fraction,
     throw_m,
 )
+from beamwall.provenance import sha256_file
 from beamwall.results import InputFile, SessionResult, ShotResult
-from beamwall.session import CalibrationSession, CameraSpec, Session, ShotSpec, WallSpec
+from beamwall.session import (
+    CalibrationSession,
+    CameraSpec,
+    Session,
+    ShotSpec,
+    WallSpec,
+    shot_field,
+)
 
 __all__ = ["measure_session", "calibrate_session", "ProgressCallback", "ShotSignal"]
 
@@ -416,10 +424,10 @@ def measure_session(
     mapping = _mapping(session.wall, file=file)
     total = len(session.shots)
     results: list[ShotResult] = []
-    inputs: list[InputFile] = [InputFile("session", file, img.sha256_file(session.path))]
+    inputs: list[InputFile] = [InputFile("session", file, sha256_file(session.path))]
     for i, shot in enumerate(session.shots):
         progress(shot.label, i, total)
-        where = f'[[shot]] {i + 1} ("{shot.label}")'
+        where = shot_field(shot.number, shot.label)
         sig = load_shot_signal(
             shot.images, shot.darks, camera=session.camera, own=_shot_own(shot),
             mapping=mapping, where=where, file=file,
@@ -455,7 +463,7 @@ def measure_session(
         }
         if calibration_file:
             inputs.append(
-                InputFile("calibration", calibration_file, img.sha256_file(Path(calibration_file)))
+                InputFile("calibration", calibration_file, sha256_file(Path(calibration_file)))
             )
     return SessionResult(
         beamwall_version=__version__,
@@ -484,7 +492,8 @@ def calibrate_session(
     ref = cs.reference
     progress("reference", 0, 1)
     mapping = _mapping(cs.wall, file=file)
-    own = {"exposures_s": ref.exposures_s, "exposure_s": None, "f_number": None, "iso": None}
+    own = {"exposures_s": ref.exposures_s, "exposure_s": ref.exposure_s,
+           "f_number": ref.f_number, "iso": ref.iso}
     sig = load_shot_signal(
         ref.images, ref.darks, camera=cs.camera, own=own, mapping=mapping,
         where="[reference]", file=file,
@@ -530,7 +539,7 @@ def calibrate_session(
             "reference lamp even near its axis, and the wall matte?"
         )
     inputs = (
-        {"role": "calibration session", "path": file, "sha256": img.sha256_file(cs.path)},
+        {"role": "calibration session", "path": file, "sha256": sha256_file(cs.path)},
         *({"role": i.role, "path": i.path, "sha256": i.sha256} for i in sig.inputs),
     )
     return Calibration(

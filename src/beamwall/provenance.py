@@ -1,0 +1,27 @@
+"""Provenance of results: hashes of input files (file I/O)."""
+
+from __future__ import annotations
+
+import hashlib
+from os import PathLike
+
+__all__ = ["sha256_file"]
+
+
+def sha256_file(path: str | PathLike[str]) -> str:
+    """SHA-256 of a file's bytes, hex.
+
+    Examples
+    --------
+    >>> import tempfile, os
+    >>> fd, p = tempfile.mkstemp(); os.write(fd, b"abc"); os.close(fd)
+    3
+    >>> sha256_file(p)[:16]
+    'ba7816bf8f01cfea'
+    >>> os.unlink(p)
+    """
+    h = hashlib.sha256()
+    with open(path, "rb") as f:
+        for chunk in iter(lambda: f.read(1 << 20), b""):
+            h.update(chunk)
+    return h.hexdigest()
