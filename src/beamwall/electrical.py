@@ -357,7 +357,8 @@ def electrical_estimate(
         if hi > MAX_LUMINOUS_EFFICACY_LM_PER_W:
             warnings.append(
                 f"efficacy_lm_per_w high end {hi:g} lm/W is above "
-                f"{MAX_LUMINOUS_EFFICACY_LM_PER_W:g} lm/W, the highest efficacy any light can have (SI definition of the candela)")
+                f"{MAX_LUMINOUS_EFFICACY_LM_PER_W:g} lm/W, the highest efficacy any light can "
+                "have (SI definition of the candela)")
         elif hi > WHITE_LED_MAX_EFFICACY_LM_PER_W:
             warnings.append(
                 f"efficacy_lm_per_w high end {hi:g} lm/W is above "
@@ -831,6 +832,7 @@ def predict_output_over_time(
     cell_ohms: float | None = None,
     driver_drop_volts: float | None = None,
     measured_at_soc_fraction: float = 1.0,
+    measured_cell_volts: float | None = None,
     led_ideality: float | None = None,
     led_series_ohms: float | None = None,
     flux_current_exponent: float = 1.0,
@@ -862,6 +864,10 @@ def predict_output_over_time(
     measured_at_soc_fraction : float, optional
         State of charge of the cell when the point was measured (default 1.0, a fresh cell),
         and the state of charge the simulation starts from.
+    measured_cell_volts : float, optional
+        The cell's open-circuit voltage read when the point was measured, V; when given, it
+        sets ``measured_at_soc_fraction`` through the OCV table (which must then rise
+        strictly).
     led_ideality, led_series_ohms : float, optional
         The LED model's ideality factor and series resistance (defaults
         :data:`DEFAULT_LED_IDEALITY`, :data:`DEFAULT_LED_SERIES_OHMS`, from memory).
@@ -948,6 +954,17 @@ def predict_output_over_time(
         f"{r_s:g} ohm x (I - {i_m:g} A), through the measured point; ideality "
         f"{'given' if led_ideality is not None else 'from memory, to confirm'}, series "
         f"resistance {'given' if led_series_ohms is not None else 'from memory, to confirm'}")
+    if measured_cell_volts is not None:
+        v_cell = _positive(measured_cell_volts, "measured_cell_volts", None)
+        if np.any(np.diff(ocv_tab) <= 0):
+            raise InputError("the OCV table must rise strictly to find the state of charge "
+                             "from a voltage", field="measured_cell_volts")
+        if not ocv_tab[0] <= v_cell <= ocv_tab[-1]:
+            warnings.append(f"measured cell voltage {v_cell:g} V lies outside the OCV table "
+                            f"({ocv_tab[0]:g}-{ocv_tab[-1]:g} V); the nearest end is used")
+        measured_at_soc_fraction = float(np.interp(v_cell, ocv_tab, soc_tab))
+        assumptions.append(f"starting state of charge {measured_at_soc_fraction:.3g}, from "
+                           f"the measured cell voltage {v_cell:g} V")
     if not 0.0 <= measured_at_soc_fraction <= 1.0:
         raise InputError(f"must be in [0, 1], got {measured_at_soc_fraction!r}",
                          field="measured_at_soc_fraction")
