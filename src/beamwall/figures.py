@@ -153,7 +153,7 @@ def largest_cone_half_angle_deg(radius_mm: float, *, distance_m: float) -> float
     45.0
     """
     alpha = np.degrees(np.arctan(max(radius_mm, 0.0) / (distance_m * 1000.0)))
-    return float(np.floor(alpha / CONE_STEP_DEG + 1e-6) * CONE_STEP_DEG)
+    return round(float(np.floor(alpha / CONE_STEP_DEG + 1e-6) * CONE_STEP_DEG), 1)
 
 
 def _field_region(intensity: WallGrid, peak: float, sigma_cells: float) -> np.ndarray:
