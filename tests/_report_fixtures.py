@@ -34,8 +34,9 @@ def gaussian_shot(label: str = "narrow, high", *, sigma_deg: float = 6.0, peak: 
     """A shot of a Gaussian beam (sigma along wall y scaled by ``ellipticity``)."""
     theta = np.arange(0.0, theta_max_deg + 1e-9, theta_step_deg)
     phi = np.arange(0.0, 360.0, phi_step_deg)
-    sig = sigma_deg * np.hypot(np.cos(np.radians(phi)), ellipticity * np.sin(np.radians(phi)))
-    sig = sigma_deg * sigma_deg * ellipticity / np.where(sig > 0, sig, 1.0)  # ellipse radius
+    # ellipse of semi-axes sigma (along wall x) and ellipticity * sigma (along wall y)
+    sig = sigma_deg * np.hypot(ellipticity * np.cos(np.radians(phi)), np.sin(np.radians(phi)))
+    sig = sigma_deg * sigma_deg * ellipticity / sig
     intensity = peak * np.exp(-0.5 * (theta[:, None] / sig[None, :]) ** 2)
     # the photo's edge: on the wall, the photo spans +/- wall_half_mm around photo_offset_mm
     d_mm = 1000.0 * distance_m
@@ -58,7 +59,7 @@ def gaussian_shot(label: str = "narrow, high", *, sigma_deg: float = 6.0, peak: 
     th = np.degrees(np.arctan(np.hypot(gx, gy) / d_mm))
     ph = np.arctan2(gy, gx)
     s_local = sigma_deg * sigma_deg * ellipticity / np.hypot(
-        sigma_deg * np.cos(ph), sigma_deg * ellipticity * np.sin(ph))
+        sigma_deg * ellipticity * np.cos(ph), sigma_deg * np.sin(ph))
     values = (peak * np.exp(-0.5 * (th / s_local) ** 2)).astype(np.float32)
     corner = np.abs(gx - xs[0]) + np.abs(gy - ys[0]) < 200.0   # a corner outside the photo
     values[corner] = np.nan

@@ -97,7 +97,8 @@ def _render(scene, exp, case, seed, beam_on=True):
     return synth.render(scene, exposure=exp, encoding=case.encoding, seed=seed, beam_on=beam_on)
 
 
-def run_case(case: Case, tmp: Path):
+def write_case(case: Case, tmp: Path) -> tuple[Path, Path]:
+    """Render the case's lamp and torch photos into ``tmp``; return (calibration, session) TOML."""
     rng = np.random.default_rng(5)
     walltoml = _wall_points(case.camera, rng)
     cam = f'[camera]\nencoding = "{case.encoding}"\n'
@@ -114,7 +115,6 @@ def run_case(case: Case, tmp: Path):
     (tmp / "cal.toml").write_text(
         f"[wall]\n{walltoml}\n\n{cam}\n[reference]\nimages = [\"lamp{case.suffix}\"]\n"
         "intensity_cd = 100.0\ndistance_m = 1.5\naxis_mm = [0.0, 0.0]\n")
-    cal = calibrate_session(load_calibration_session(tmp / "cal.toml"))
 
     scene = synth.Scene(beam=case.beam, distance_m=case.distance_m, camera=case.camera,
                         ambient_lx=0.2, colour_rgb=case.colour)
@@ -133,7 +133,13 @@ def run_case(case: Case, tmp: Path):
         f"[rig]\ndistance_m = {case.distance_m}\n\n[wall]\n{walltoml}\n\n{cam}\n"
         f"[[shot]]\nlabel = \"{case.name}\"\nimages = [{', '.join(names)}]\n"
         f"dark = \"dark{case.suffix}\"\n")
-    result = measure_session(load_session(tmp / "session.toml"), cal)
+    return tmp / "cal.toml", tmp / "session.toml"
+
+
+def run_case(case: Case, tmp: Path):
+    cal_toml, session_toml = write_case(case, tmp)
+    cal = calibrate_session(load_calibration_session(cal_toml))
+    result = measure_session(load_session(session_toml), cal)
     return result.shots[0]
 
 

@@ -19,7 +19,7 @@ from typing import Any, TypeVar
 import click
 
 from beamwall import __version__
-from beamwall.errors import BeamwallError
+from beamwall.errors import BeamwallError, InputError
 
 F = TypeVar("F", bound=Callable[..., Any])
 
@@ -50,10 +50,13 @@ def _guard(fn: F) -> F:
 
 @contextmanager
 def _progress(label: str) -> Iterator[Callable[[str, int, int], None]]:
-    """A progress line on stderr, one update per shot."""
+    """A progress bar on stderr, one update per shot (only on a terminal)."""
     state: dict[str, Any] = {"bar": None}
+    interactive = sys.stderr.isatty()
 
     def update(stage: str, done: int, total: int) -> None:
+        if not interactive:
+            return
         if state["bar"] is None:
             state["bar"] = click.progressbar(
                 length=total, label=label, file=sys.stderr, show_pos=True,
@@ -75,7 +78,7 @@ def _progress(label: str) -> Iterator[Callable[[str, int, int], None]]:
 
 def _check_new(path: Path, force: bool, what: str) -> None:
     if path.exists() and not force:
-        raise click.UsageError(f"{path}: {what} exists; use --force to overwrite it")
+        raise InputError(f"{what} exists; use --force to overwrite it", file=path)
 
 
 def _atomic_write(path: Path, write: Callable[[Path], None]) -> None:
@@ -269,8 +272,7 @@ def demo(outdir: Path | None, force: bool, seed: int) -> None:
         tmp = Path(tempfile.mkdtemp(prefix="beamwall-demo-"))
         outdir = tmp
     scene_dir = outdir / "scene"
-    if (outdir / "results").exists() and not force:
-        raise click.UsageError(f"{outdir / 'results'} exists; use --force to overwrite it")
+    _check_new(outdir / "results", force, "demo results")
     if scene_dir.exists() and force:
         shutil.rmtree(scene_dir)
     click.echo(f"rendering the demo scenario into {scene_dir} ...", err=True)
