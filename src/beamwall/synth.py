@@ -89,7 +89,7 @@ from functools import cached_property, lru_cache
 from typing import ClassVar, Protocol, runtime_checkable
 
 import numpy as np
-from scipy import optimize, special
+from scipy import optimize, special  # type: ignore[import-untyped]
 
 from beamwall.constants import REC709_LUMINANCE_WEIGHTS, THROW_ILLUMINANCE_LX
 from beamwall.errors import GeometryError, InputError
@@ -393,7 +393,7 @@ class FlatFlood:
 
 
 def _soft_box(u: np.ndarray, half_width: float, blur: float) -> np.ndarray:
-    """A box of half width ``half_width`` convolved with a Gaussian of sigma ``blur``."""
+    """Return a box of half width ``half_width`` convolved with a Gaussian of sigma ``blur``."""
     k = 1.0 / (math.sqrt(2.0) * blur)
     return 0.5 * (special.erf((half_width - u) * k) + special.erf((half_width + u) * k))
 
@@ -524,8 +524,8 @@ class ReferenceLamp:
     """A reference lamp of known axial intensity, even within a few degrees of its axis.
 
     ``I = axial_intensity_cd * exp(-(theta / falloff_deg)**2)``: within 3 deg of the axis it
-    stays within 0.25 % of ``axial_intensity_cd`` at the default ``falloff_deg`` of 60. Invented model
-    (common practice, no source).
+    stays within 0.25 % of ``axial_intensity_cd`` at the default ``falloff_deg`` of 60.
+    Invented model (common practice, no source).
 
     Examples
     --------
@@ -736,8 +736,8 @@ def flux_in_cone_lm(
     beam: Beam,
     half_angle_deg: float,
     *,
-    panel_deg: float = 0.25,
-    n_phi: int = 1440,
+    panel_deg: float = 0.5,
+    n_phi: int = 720,
 ) -> float:
     """Luminous flux within the cone of half angle ``half_angle_deg`` about the axis.
 
@@ -887,13 +887,14 @@ def truth(
         raise InputError(f"must be at least 1, got {n_phi!r}", field="n_phi")
     phi = np.arange(n_phi) * (360.0 / n_phi)
     phi.flags.writeable = False
+    step = theta_step_deg
     if _is_symmetric(beam):
         one = np.array([0.0])
-        b50 = np.full(n_phi, outermost_half_angles_deg(beam, 0.5, one, theta_step_deg=theta_step_deg)[0])
-        b10 = np.full(n_phi, outermost_half_angles_deg(beam, 0.1, one, theta_step_deg=theta_step_deg)[0])
+        b50 = np.full(n_phi, outermost_half_angles_deg(beam, 0.5, one, theta_step_deg=step)[0])
+        b10 = np.full(n_phi, outermost_half_angles_deg(beam, 0.1, one, theta_step_deg=step)[0])
     else:
-        b50 = outermost_half_angles_deg(beam, 0.5, phi, theta_step_deg=theta_step_deg)
-        b10 = outermost_half_angles_deg(beam, 0.1, phi, theta_step_deg=theta_step_deg)
+        b50 = outermost_half_angles_deg(beam, 0.5, phi, theta_step_deg=step)
+        b10 = outermost_half_angles_deg(beam, 0.1, phi, theta_step_deg=step)
     b50.flags.writeable = False
     b10.flags.writeable = False
     peak = float(beam.peak_cd)
@@ -1010,7 +1011,9 @@ class CameraPose:
     def __post_init__(self) -> None:
         pos = tuple(float(v) for v in self.position_m)
         if len(pos) != 3 or not all(math.isfinite(v) for v in pos):
-            raise InputError(f"must be 3 finite numbers, got {self.position_m!r}", field="position_m")
+            raise InputError(
+                f"must be 3 finite numbers, got {self.position_m!r}", field="position_m"
+            )
         if pos[2] <= 0:
             raise InputError(f"z must be positive (in front of the wall), got {pos[2]!r}",
                              field="position_m")
@@ -1088,7 +1091,7 @@ def _pose(scene_or_pose: Scene | CameraPose) -> CameraPose:
 
 
 def camera_matrix(scene_or_pose: Scene | CameraPose) -> np.ndarray:
-    """The intrinsic matrix K.
+    """Return the intrinsic matrix K.
 
     Parameters
     ----------
@@ -1130,7 +1133,7 @@ def _camera_to_wall_rotation(pose: CameraPose) -> np.ndarray:
 
 
 def world_to_camera(scene_or_pose: Scene | CameraPose) -> tuple[np.ndarray, np.ndarray]:
-    """The extrinsics: wall coordinates (m) to camera coordinates, ``X_c = R X + t``.
+    """Return the extrinsics: wall (m) to camera coordinates, ``X_c = R X + t``.
 
     Parameters
     ----------
@@ -1156,7 +1159,7 @@ def world_to_camera(scene_or_pose: Scene | CameraPose) -> tuple[np.ndarray, np.n
 
 
 def wall_to_px_homography(scene_or_pose: Scene | CameraPose) -> np.ndarray:
-    """The homography from wall millimetres (x right, y up) to pixels (x right, y down).
+    """Return the homography from wall mm (x right, y up) to pixels (x right, y down).
 
     Parameters
     ----------
@@ -1311,7 +1314,8 @@ def wall_illuminance_lx(
 def _exposure_factor(exposure: Exposure) -> float:
     for name in ("exposure_s", "f_number", "iso"):
         _check_positive(float(getattr(exposure, name)), name)
-    return float(exposure.exposure_s) * (float(exposure.iso) / 100.0) / float(exposure.f_number) ** 2
+    t, iso, n = float(exposure.exposure_s), float(exposure.iso), float(exposure.f_number)
+    return t * (iso / 100.0) / n**2
 
 
 def _row_chunks(pose: CameraPose, supersample: int) -> range:
@@ -1372,7 +1376,7 @@ def render_signal(
     supersample: int = 1,
     grey: bool = False,
 ) -> np.ndarray:
-    """The noiseless, unclipped focal-plane signal, as a fraction of full scale.
+    """Render the noiseless, unclipped focal-plane signal, as a fraction of full scale.
 
     Parameters
     ----------
@@ -1560,7 +1564,7 @@ def auto_exposure_s(
     headroom: float = 0.8,
     supersample: int = 1,
 ) -> float:
-    """The exposure time that puts the brightest rendered pixel at ``headroom`` of full scale.
+    """Find the exposure time that puts the brightest pixel at ``headroom`` of full scale.
 
     Parameters
     ----------
@@ -1620,7 +1624,7 @@ _SHUTTER_S = tuple(
 
 
 def nominal_shutter_s(exposure_s: float) -> float:
-    """The longest marked shutter time (1/3-stop series) not longer than ``exposure_s``.
+    """Round down to a marked shutter time (1/3-stop series) not longer than ``exposure_s``.
 
     Parameters
     ----------
@@ -1754,7 +1758,7 @@ def _demo_exposure(scene: Scene, *, f_number: float, iso: float) -> Exposure:
 
 @lru_cache(maxsize=1)
 def demo_scenario() -> DemoScenario:
-    """The fictional demo: a zoom torch at both zoom ends and two modes, plus a reference lamp.
+    """Describe the fictional demo: a zoom torch at both zoom ends, two modes, a reference lamp.
 
     All names and numbers are invented for the demo. The "Model Z-1 test torch" stands 1.5 m
     from the wall; a camera on a tripod stands 0.35 m to the right of and 0.25 m below the
@@ -1816,7 +1820,7 @@ def demo_scenario() -> DemoScenario:
             ambient_lx=ambient_lx,
         )
 
-    plans = [
+    plans: list[tuple[str, str, str, Beam, int, DemoElectrical | None]] = [
         ("min zoom, high", "min", "high", flood, 1, None),
         ("min zoom, low", "min", "low", ScaledBeam(flood, low), 1, low_el),
         ("max zoom, high", "max", "high", spot, 2, None),
