@@ -258,7 +258,7 @@ def _decode_pixels(data: bytes, kind: str, path: Path) -> np.ndarray:
 
 
 def _cv2_decode(data: bytes) -> np.ndarray | None:
-    """Decode with OpenCV, unchanged depth and channels, BGR(A) turned to RGB(A); None on failure."""
+    """Decode with OpenCV at unchanged depth; BGR(A) becomes RGB, alpha dropped; None: failed."""
     level = cv2.utils.logging.getLogLevel()
     cv2.utils.logging.setLogLevel(cv2.utils.logging.LOG_LEVEL_SILENT)
     try:
@@ -396,7 +396,7 @@ def _read_exif(data: bytes, kind: str) -> tuple[dict[str, Any], tuple[str, ...]]
 
 
 def focal_length_px(frame: Frame, *, override_px: float | None = None) -> float | None:
-    """The lens's focal length in pixels of ``frame``, for the natural cos^4 falloff.
+    """Return the lens's focal length in pixels of ``frame``, for the natural cos^4 falloff.
 
     Parameters
     ----------
@@ -585,7 +585,7 @@ def write_image(
 
 
 def _rational(value: float, name: str, path: Path) -> IFDRational:
-    """A positive EXIF RATIONAL close to ``value`` (denominator up to 10^6)."""
+    """Return a positive EXIF RATIONAL close to ``value`` (denominator up to 10^6)."""
     if not (math.isfinite(value) and value > 0):
         raise ImageError(f"{name} must be a positive number, got {value}", file=path)
     fraction = Fraction(value).limit_denominator(1_000_000)
@@ -595,7 +595,7 @@ def _rational(value: float, name: str, path: Path) -> IFDRational:
 
 
 def _short(value: float, name: str, path: Path) -> int:
-    """A positive EXIF SHORT (1 to 65535) nearest to ``value``."""
+    """Return the EXIF SHORT (1 to 65535) nearest to ``value``."""
     if not (math.isfinite(value) and 1 <= round(value) <= 65535):
         raise ImageError(f"{name} must be 1 to 65535, got {value}", file=path)
     return int(round(value))
