@@ -25,6 +25,7 @@ from beamwall.compare import (
     common_half_angle_deg,
     flux_in_cone,
     mode_ratios,
+    session_comparisons,
     session_electrical,
     zoom_summary,
 )
@@ -266,3 +267,40 @@ def test_audit_shot_reads_the_claims_from_the_spec():
     d = checks[0].to_dict()
     for key in ("label", "figure", "claimed", "measured", "ratio", "verdict"):
         assert key in d
+
+
+# --- the whole session ----------------------------------------------------------------
+
+
+def test_session_comparisons_one_call():
+    wide, narrow = zoom_pair()
+    low = make_shot("max zoom, low", intensity_cd=5000.0, beam_half_angle_deg=3.0,
+                    photo_half_angle_deg=35.0, zoom="max", mode="low")
+    session_el = ElectricalSpec(led_volts=3.0, sense_volts=0.40, sense_ohms=0.50,
+                                efficacy_lm_per_w=(90.0, 130.0))
+    low_el = ElectricalSpec(led_volts=2.8, led_amps=0.2, efficacy_lm_per_w=(90.0, 130.0))
+    img = (Path("/tmp/x.jpg"),)
+    specs = [
+        ShotSpec(label=wide.label, images=img, zoom="min", mode="high", electrical=session_el,
+                 claimed_lm=260.0),                                 # honest (252.5 lm)
+        ShotSpec(label=narrow.label, images=img, zoom="max", mode="high",
+                 electrical=session_el, claimed_cd=60000.0),        # inflated (20000 cd)
+        # low: 2.8 V x 0.2 A = 0.56 W; x 1.1 x 300 lm/W = 184.8 lm at most
+        ShotSpec(label=low.label, images=img, zoom="max", mode="low", electrical=low_el,
+                 claimed_lm=400.0),                                 # impossible
+    ]
+    res = session_comparisons([wide, narrow, low], specs, session_electrical_spec=session_el)
+    assert [c.verdict for c in res.claims] == ["consistent", "overstated",
+                                               "physically impossible"]
+    # the session table is checked against the best flux of the shots that use it
+    assert res.electrical.flux_label == wide.label
+    assert res.electrical.implied_efficacy_lm_per_w == pytest.approx(wide.flux_lm / 2.4)
+    (label, own), = res.shot_electrical
+    assert label == low.label
+    assert own.implied_efficacy_lm_per_w == pytest.approx(low.flux_lm / 0.56)
+    d = res.to_dict()
+    assert set(d) == {"zoom", "modes", "electrical", "claims"}
+    assert d["zoom"]["beam_angle_min_deg"] == 6.0
+    assert {m["label"]: m["peak_ratio"] for m in d["modes"]}[low.label] == pytest.approx(0.25)
+    with pytest.raises(InputError, match="one to one"):
+        session_comparisons([wide], specs)

@@ -41,11 +41,12 @@ from beamwall.electrical import (
     ElectricalEstimate,
     PlausibilityBound,
     cross_check,
+    electrical_estimate,
     plausibility_bound,
 )
 from beamwall.errors import InputError
 from beamwall.results import ShotResult
-from beamwall.session import ShotSpec
+from beamwall.session import ElectricalSpec, ShotSpec
 
 __all__ = [
     "DEFAULT_CLAIM_TOLERANCE_FRACTION",
@@ -64,6 +65,8 @@ __all__ = [
     "audit_claim",
     "audit_claims",
     "audit_shot",
+    "SessionComparison",
+    "session_comparisons",
 ]
 
 #: Tolerance allowed on a claim beyond the measurement's k=2 interval, as a fraction of the
@@ -997,3 +1000,146 @@ def _demo_shot(
         flux_half_angle_deg=flux_half_angle_deg, axis_mm=(0.0, 0.0), saturated_fraction=0.0,
         relative_peak_intensity=1.0, relative_flux=1.0,
         cone_half_angle_deg=ang, cone_flux=flux_lm * ang / flux_half_angle_deg)
+
+
+# ----------------------------------------------------------------------------------------
+# The whole session in one call
+# ----------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class SessionComparison:
+    """The session-level keys of results.json, and each shot's own electrical check.
+
+    Attributes
+    ----------
+    zoom : ZoomSummary or None
+        Present when a shot carries a ``zoom`` tag.
+    modes : ModeSummary or None
+        Present when a shot carries a ``mode`` tag.
+    electrical : ElectricalCheck or None
+        The session's ``[electrical]`` table, checked against the shots that use it as it is.
+    shot_electrical : tuple of (str, ElectricalCheck)
+        (label, check) for each shot whose merged table differs from the session's.
+    claims : tuple of ClaimCheck
+        Every claim of every shot, in shot order.
+    warnings : tuple of str
+    """
+
+    zoom: ZoomSummary | None
+    modes: ModeSummary | None
+    electrical: ElectricalCheck | None
+    shot_electrical: tuple[tuple[str, ElectricalCheck], ...]
+    claims: tuple[ClaimCheck, ...]
+    warnings: tuple[str, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the session-level keys present (``zoom``, ``modes``, ``electrical``, ...).
+
+        ``modes`` is the list of :class:`ModeRatio` dicts; ``claims`` is always present (an
+        empty list when nothing is claimed).
+        """
+        out: dict[str, Any] = {}
+        if self.zoom is not None:
+            out["zoom"] = self.zoom.to_dict()
+        if self.modes is not None:
+            out["modes"] = self.modes.to_dict()["modes"]
+        if self.electrical is not None:
+            out["electrical"] = self.electrical.to_dict()
+        out["claims"] = [c.to_dict() for c in self.claims]
+        return out
+
+
+def session_comparisons(
+    shots: Sequence[ShotResult],
+    specs: Sequence[ShotSpec],
+    *,
+    session_electrical_spec: ElectricalSpec | None = None,
+    source: str | None = None,
+    tolerance_fraction: float = DEFAULT_CLAIM_TOLERANCE_FRACTION,
+    n_cells: int | None = 1,
+) -> SessionComparison:
+    """Compute the zoom summary, mode ratios, electrical checks and claim audit of a session.
+
+    Parameters
+    ----------
+    shots : sequence of ShotResult
+        The measured shots.
+    specs : sequence of ShotSpec
+        Their tables from the session file, parallel to ``shots`` (``electrical`` merged over
+        the session's table, as the session reader gives it).
+    session_electrical_spec : ElectricalSpec, optional
+        The session's own ``[electrical]`` table as written (it may be partial when every
+        shot's table completes it; it is then left out of the session-level check).
+    source : str, optional
+        The session file, for messages.
+    tolerance_fraction : float, optional
+        See :func:`audit_claim`.
+    n_cells : int or None, optional
+        The cell limit used for the claims of shots without electrical readings (see
+        :func:`audit_claims`).
+
+    Returns
+    -------
+    SessionComparison
+
+    Raises
+    ------
+    InputError
+        If ``shots`` and ``specs`` differ in length or order (labels), or a shot's merged
+        electrical table is incomplete.
+
+    Notes
+    -----
+    A shot uses the session's table as it is when its merged table equals the session's
+    (it has no ``[shot.electrical]`` of its own); the session-level check takes the largest
+    ``flux_lm`` among those shots (:func:`best_flux`). A shot with its own table is checked
+    against its own flux. Each claim's physical limit comes from the shot's merged table.
+    """
+    shots = list(shots)
+    specs = list(specs)
+    if len(shots) != len(specs) or any(a.label != b.label for a, b in zip(shots, specs)):
+        raise InputError("shots and their specs must match one to one, in order",
+                         file=source, field="shots")
+    warnings: list[str] = []
+    zoom = modes = None
+    if any(s.zoom is not None for s in shots):
+        try:
+            zoom = zoom_summary(shots)
+            warnings.extend(zoom.warnings)
+        except InputError as exc:
+            warnings.append(f"no zoom summary: {exc.message}")
+    if any(s.mode is not None for s in shots):
+        modes = mode_ratios(shots)
+        warnings.extend(modes.warnings)
+
+    session_check: ElectricalCheck | None = None
+    session_est: ElectricalEstimate | None = None
+    if session_electrical_spec is not None:
+        try:
+            session_est = electrical_estimate(session_electrical_spec, source=source)
+        except InputError as exc:
+            warnings.append(f"[electrical] is partial, no session-level check: {exc.message}")
+    users = [s for s, sp in zip(shots, specs)
+             if sp.electrical is None or sp.electrical == session_electrical_spec]
+    if session_est is not None:
+        session_check = session_electrical(session_est, users)
+    per_shot: list[tuple[str, ElectricalCheck]] = []
+    estimates: dict[str, ElectricalEstimate | None] = {}
+    for s, sp in zip(shots, specs):
+        if sp.electrical is None:
+            estimates[s.label] = None
+        elif sp.electrical == session_electrical_spec:
+            estimates[s.label] = session_est
+        else:
+            where = f"[[shot]] {s.label!r} [shot.electrical]"
+            est = electrical_estimate(sp.electrical, source=source, table=where)
+            estimates[s.label] = est
+            per_shot.append((s.label, session_electrical(est, [s])))
+    claims: list[ClaimCheck] = []
+    for s, sp in zip(shots, specs):
+        claims.extend(audit_shot(s, sp, electrical=estimates[s.label],
+                                 tolerance_fraction=tolerance_fraction, n_cells=n_cells))
+    return SessionComparison(zoom=zoom, modes=modes, electrical=session_check,
+                             shot_electrical=tuple(per_shot), claims=tuple(claims),
+                             warnings=tuple(warnings))
