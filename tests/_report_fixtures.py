@@ -71,13 +71,15 @@ def gaussian_shot(label: str = "narrow, high", *, sigma_deg: float = 6.0, peak: 
     throw = float(np.sqrt(peak / 0.25)) if calibrated else None
     return ShotResult(
         label=label, zoom=zoom, mode=mode,
-        beam_angle_deg=float(2 * np.mean(beam_half)), field_angle_deg=float(2 * np.mean(field_half)),
+        beam_angle_deg=float(2 * np.mean(beam_half)),
+        field_angle_deg=float(2 * np.mean(field_half)),
         peak_intensity_cd=peak if calibrated else None, throw_m=throw,
         flux_lm=0.02 * peak if calibrated else None, flux_half_angle_deg=25.0,
         axis_mm=(0.0, 0.0), saturated_fraction=0.0, relative_peak_intensity=relative_peak,
         relative_flux=relative_peak * 0.9, warnings=("synthetic test shot",),
         beam_angle_sigma_deg=0.2, peak_intensity_sigma_cd=0.05 * peak if calibrated else None,
-        beam_angle_min_deg=float(2 * beam_half.min()), beam_angle_max_deg=float(2 * beam_half.max()),
+        beam_angle_min_deg=float(2 * beam_half.min()),
+        beam_angle_max_deg=float(2 * beam_half.max()),
         distance_m=distance_m, distribution=dist, intensity_map=grid,
         inputs=(InputFile("image", f"/data/{label}.jpg",
                           hashlib.sha256(label.encode()).hexdigest()),))

@@ -208,7 +208,8 @@ def _chromium(args: list[str], profile: Path) -> subprocess.CompletedProcess:
 
 
 @pytest.mark.skipif(_CHROMIUM is None,
-                    reason="chromium not installed (Debian package 'chromium'); .ci/run installs it")
+                    reason="chromium not installed (Debian package 'chromium', which "
+                           ".ci/run installs)")
 def test_report_in_headless_chromium(tmp_path):
     session = zoom_session(4)
     report = write_html(session, tmp_path / "report.html")

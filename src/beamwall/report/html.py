@@ -469,8 +469,11 @@ class _Canvas:
 
 
 def _view_box(shot: ShotResult, grid: WallGrid) -> tuple[float, float, float, float]:
-    """Wall region to show, mm (left, right, bottom, top): about 1.6 field half angles around
-    the axis when the distance is known (layout choice, no source), else the whole grid."""
+    """Return the wall region to show, mm (left, right, bottom, top).
+
+    About 1.6 field half angles around the axis when the distance is known (layout choice,
+    no source), else the whole grid.
+    """
     left, right, bottom, top = wall_extent_mm(grid)
     if shot.distance_m and shot.field_angle_deg:
         half_mm = float(_angle_to_wall_offset_mm(min(80.0, 0.8 * shot.field_angle_deg),
@@ -679,6 +682,7 @@ table{border-collapse:collapse;font-size:.9rem}
 th,td{padding:.3rem .55rem;border-bottom:1px solid var(--line);text-align:left;
  vertical-align:top}
 th{background:#f3f5f8}
+td:first-child{min-width:7.5rem}
 td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 .caution{border-left:5px solid #a64d00;background:#fff6ec;padding:.4rem 1rem;margin:1rem 0}
 .caution ul{margin:.3rem 0;padding-left:1.2rem}

@@ -113,7 +113,7 @@ def _keyword_lines(key: str, text: str) -> list[str]:
 
 
 def _number(value: float, *, significant: int = 5) -> str:
-    """A number with ``significant`` digits (at most 3 decimals), never in exponent form."""
+    """Format with ``significant`` digits (at most 3 decimals), never in exponent form."""
     value = float(value)
     if value == 0.0 or not np.isfinite(value):
         return "0"
