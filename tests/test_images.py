@@ -217,6 +217,15 @@ def test_planar_tiff(tmp_path):
     np.testing.assert_array_equal(read_frame(path).pixels, pixels)
 
 
+def test_big_endian_tiff(tmp_path):
+    pixels = _ramp((6, 7), np.uint16, seed=4)
+    path = tmp_path / "motorola.tif"
+    tifffile.imwrite(path, pixels, byteorder=">", metadata=None)
+    frame = read_frame(path)
+    np.testing.assert_array_equal(frame.pixels, pixels)
+    assert frame.pixels.dtype == np.uint16
+
+
 def _bad_files(tmp_path):
     good_jpg = _written(tmp_path / "good.jpg", _ramp((32, 32, 3), np.uint8)).read_bytes()
     good_png = _written(tmp_path / "good.png", _ramp((32, 32), np.uint16)).read_bytes()
