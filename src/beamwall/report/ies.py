@@ -58,7 +58,7 @@ from beamwall import __version__
 from beamwall.errors import InputError
 from beamwall.results import Distribution, ShotResult
 
-__all__ = ["ies_slug", "ies_text", "write_ies", "MAX_LINE_CHARS"]
+__all__ = ["ies_slug", "slug", "ies_text", "write_ies", "MAX_LINE_CHARS"]
 
 #: Longest line written, characters (LM-63's limit [LM63]_).
 MAX_LINE_CHARS: int = 132
@@ -91,6 +91,10 @@ def ies_slug(label: str) -> str:
     text = unicodedata.normalize("NFKD", label).encode("ascii", "ignore").decode("ascii")
     text = re.sub(r"[^a-z0-9]+", "-", text.lower()).strip("-")
     return text or "shot"
+
+
+#: Alias of :func:`ies_slug`, the name the command layer uses.
+slug = ies_slug
 
 
 def _ascii(text: str) -> str:
