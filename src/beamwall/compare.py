@@ -327,8 +327,9 @@ def zoom_summary(shots: Sequence[ShotResult]) -> ZoomSummary:
     Notes
     -----
     The beam-angle range covers all shots (the contract). The flux and intensity comparison
-    needs one mode across the zoom: the shots are grouped by ``mode`` and the group with the
-    widest span of beam angles is compared (ties: the group holding the brightest shot).
+    needs one mode across the zoom: the shots are grouped by ``mode`` and the group covering
+    the most zoom settings (distinct ``zoom`` tags) is compared; ties go to the group holding
+    the brightest shot (largest peak), then to the wider span of beam angles.
     Within it, each shot's flux is taken within the common cone (see the module notes); the
     throw ratio is sqrt(peak ratio), as throw = 2 sqrt(I) [FL1].
 
@@ -358,10 +359,12 @@ def zoom_summary(shots: Sequence[ShotResult]) -> ZoomSummary:
     for s in angled:
         groups.setdefault(s.mode, []).append(s)
 
-    def rank(item: tuple[str | None, list[ShotResult]]) -> tuple[float, float]:
+    def rank(item: tuple[str | None, list[ShotResult]]) -> tuple[int, float, float]:
         members = item[1]
         angles = [float(m.beam_angle_deg) for m in members]  # type: ignore[arg-type]
-        return (max(angles) / min(angles), max(_peak(m, calibrated) for m in members))
+        n_settings = len({m.zoom for m in members})
+        return (n_settings, max(_peak(m, calibrated) for m in members),
+                max(angles) / min(angles))
 
     mode, members = max(groups.items(), key=rank)
     if len(groups) > 1:
