@@ -304,3 +304,14 @@ def test_session_comparisons_one_call():
     assert {m["label"]: m["peak_ratio"] for m in d["modes"]}[low.label] == pytest.approx(0.25)
     with pytest.raises(InputError, match="one to one"):
         session_comparisons([wide], specs)
+
+
+def test_zoom_tie_between_modes_goes_to_the_brightest():
+    wide, narrow = zoom_pair()
+    wide_low = make_shot("min zoom, low", intensity_cd=75.0, beam_half_angle_deg=30.5,
+                         zoom="min", mode="low")
+    narrow_low = make_shot("max zoom, low", intensity_cd=5000.0, beam_half_angle_deg=2.9,
+                           photo_half_angle_deg=35.0, zoom="max", mode="low")
+    z = zoom_summary([wide_low, narrow_low, wide, narrow])
+    assert z.compared_mode == "high"
+    assert z.narrow_label == "max zoom, low" and z.wide_label == "min zoom, low"
