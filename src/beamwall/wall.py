@@ -299,8 +299,8 @@ def fit_homography(
     >>> px = [[100.0, 100.0], [300.0, 100.0], [300.0, 250.0], [100.0, 250.0]]
     >>> mm = [[-500.0, 375.0], [500.0, 375.0], [500.0, -375.0], [-500.0, -375.0]]
     >>> m = fit_homography(px, mm)
-    >>> np.round(wall_to_pixel(m, [[0.0, 0.0]]), 6) + 0.0
-    array([[200., 175.]])
+    >>> [round(float(c), 6) for c in wall_to_pixel(m, [[0.0, 0.0]])[0]]
+    [200.0, 175.0]
     >>> m.rms_error_mm < 1e-9, m.n_points
     (True, 4)
     """
@@ -417,9 +417,8 @@ def wall_to_pixel(mapping: WallMapping, xy_mm: ArrayLike) -> np.ndarray:
     Examples
     --------
     >>> m = WallMapping(np.array([[1.0, 0, 10], [0, -1.0, 20], [0, 0, 1]]), 0.0, 4)
-    >>> wall_to_pixel(m, [[0.0, 0.0], [5.0, 5.0]])
-    array([[10., 20.],
-           [15., 15.]])
+    >>> wall_to_pixel(m, [[0.0, 0.0], [5.0, 5.0]]).tolist()
+    [[10.0, 20.0], [15.0, 15.0]]
     """
     p = _xy(xy_mm, "xy_mm")
     out, w = _apply(np.asarray(mapping.wall_to_px, dtype=np.float64), p)
@@ -451,9 +450,8 @@ def pixel_to_wall(mapping: WallMapping, xy_px: ArrayLike) -> np.ndarray:
     Examples
     --------
     >>> m = WallMapping(np.array([[1.0, 0, 10], [0, -1.0, 20], [0, 0, 1]]), 0.0, 4)
-    >>> pixel_to_wall(m, [[10.0, 20.0], [15.0, 15.0]])
-    array([[0., 0.],
-           [5., 5.]])
+    >>> pixel_to_wall(m, [[10.0, 20.0], [15.0, 15.0]]).tolist()
+    [[0.0, 0.0], [5.0, 5.0]]
     """
     p = _xy(xy_px, "xy_px")
     out, c = _apply(np.linalg.inv(np.asarray(mapping.wall_to_px, dtype=np.float64)), p)
@@ -495,11 +493,8 @@ def footprint_mm(mapping: WallMapping, image_shape: Any) -> np.ndarray:
     Examples
     --------
     >>> m = WallMapping(np.array([[1.0, 0, 1.5], [0, -1.0, 0.5], [0, 0, 1]]), 0.0, 4)
-    >>> footprint_mm(m, (2, 4))
-    array([[-2.,  1.],
-           [ 2.,  1.],
-           [ 2., -1.],
-           [-2., -1.]])
+    >>> footprint_mm(m, (2, 4)).tolist()
+    [[-2.0, 1.0], [2.0, 1.0], [2.0, -1.0], [-2.0, -1.0]]
     """
     h_px, w_px = _image_hw(image_shape)
     corners = np.array([[-0.5, -0.5], [w_px - 0.5, -0.5], [w_px - 0.5, h_px - 0.5],
@@ -536,8 +531,8 @@ def mm_per_px(mapping: WallMapping, xy_px: ArrayLike) -> np.ndarray:
     Examples
     --------
     >>> m = WallMapping(np.array([[0.5, 0, 0], [0, -0.5, 0], [0, 0, 1]]), 0.0, 4)
-    >>> mm_per_px(m, [[3.0, 4.0]])
-    array([2.])
+    >>> mm_per_px(m, [[3.0, 4.0]]).tolist()
+    [2.0]
     """
     p = _xy(xy_px, "xy_px")
     g = np.linalg.inv(np.asarray(mapping.wall_to_px, dtype=np.float64))
@@ -698,9 +693,8 @@ def resample_to_wall(
     >>> m = WallMapping(np.array([[1.0, 0, 0], [0, -1.0, 0], [0, 0, 1]]), 0.0, 4)
     >>> img = np.arange(16, dtype=np.float32).reshape(4, 4)
     >>> g = resample_to_wall(img, np.zeros((4, 4), bool), m, step_mm=2.0)
-    >>> g.values
-    array([[ 2.5,  4.5],
-           [10.5, 12.5]], dtype=float32)
+    >>> g.values.tolist()
+    [[2.5, 4.5], [10.5, 12.5]]
     >>> g.x0_mm, g.y0_mm, g.shrink_factor
     (0.5, -0.5, 2)
     """
@@ -883,8 +877,8 @@ def polar_angles_deg(
     Examples
     --------
     >>> t, p = polar_angles_deg([1000.0, 0.0], [0.0, -1000.0], axis_mm=(0, 0), distance_m=1.0)
-    >>> np.round(t, 6), np.round(p, 6)
-    (array([45., 45.]), array([  0., 270.]))
+    >>> np.round(t, 6).tolist(), np.round(p, 6).tolist()
+    ([45.0, 45.0], [0.0, 270.0])
     """
     dx, dy, d_mm = _offsets(x_mm, y_mm, axis_mm, distance_m)
     theta = np.degrees(np.arctan2(np.hypot(dx, dy), d_mm))
