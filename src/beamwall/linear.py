@@ -407,6 +407,7 @@ def linear_luminance(
 def _luminance(image: np.ndarray, encoding: str, black: float, white: float,
                weights: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """:func:`linear_luminance` on checked arguments."""
+    image = np.ascontiguousarray(image)   # OpenCV wants plain row-major strips
     height, width = image.shape[:2]
     rgb = image.ndim == 3
     lut = _lut(image.dtype, encoding, black, white)
@@ -428,7 +429,7 @@ def _luminance(image: np.ndarray, encoding: str, black: float, white: float,
         if integer:
             lower = (0,) * 3 if rgb else 0
             upper = (top_code,) * 3 if rgb else top_code
-            not_clipped = cv2.inRange(np.ascontiguousarray(rows), lower, upper)
+            not_clipped = cv2.inRange(rows, lower, upper)
             np.equal(not_clipped, 0, out=clipped[r0:r0 + _STRIP_ROWS])
         else:
             over = rows >= clip_code
