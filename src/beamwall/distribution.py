@@ -33,6 +33,8 @@ from beamwall.wall import WallGrid
 
 __all__ = [
     "grid_coordinates_mm",
+    "coarsen",
+    "smoothed_intensity",
     "smooth_nan",
     "intensity_map",
     "find_axis",
@@ -158,10 +160,14 @@ def beam_smoothing_sigma_cells(region: np.ndarray) -> float:
     >>> beam_smoothing_sigma_cells(np.zeros((3, 3), bool))
     1.0
     """
-    r = np.asarray(region, dtype=bool)
+    return float(np.clip(0.04 * _thickness_cells(np.asarray(region, dtype=bool)), 1.0, 6.0))
+
+
+def _thickness_cells(r: np.ndarray) -> float:
+    """2 A / P of a bool region, in cells (0 for an empty region)."""
     area = int(r.sum())
     if area == 0:
-        return 1.0
+        return 0.0
     interior = r.copy()
     interior[1:, :] &= r[:-1, :]
     interior[:-1, :] &= r[1:, :]
@@ -170,8 +176,7 @@ def beam_smoothing_sigma_cells(region: np.ndarray) -> float:
     # A digital circle of radius r has about 4 sqrt(2) r cells lacking a 4-neighbour: scale
     # the count by 2 pi / (4 sqrt 2) to estimate the perimeter.
     perimeter = max(float((r & ~interior).sum()) * 2.0 * np.pi / (4.0 * np.sqrt(2.0)), 1.0)
-    thickness = 2.0 * area / perimeter
-    return float(np.clip(0.04 * thickness, 1.0, 6.0))
+    return 2.0 * area / perimeter
 
 
 def _peak_region(smoothed: np.ndarray, saturated: np.ndarray, level: float) -> np.ndarray:
@@ -195,6 +200,81 @@ def peak_value(smoothed: np.ndarray, saturated: np.ndarray) -> tuple[float, tupl
     return peak, (row, col)
 
 
+def coarsen(grid: WallGrid, factor: int) -> WallGrid:
+    """Area-average a wall grid by an integer factor (NaN cells ignored; NaN where all are).
+
+    Cell (i, j) of the result averages cells [i f:(i+1) f, j f:(j+1) f] of the input; its centre
+    lies at the mean of theirs. ``saturated`` and ``inside`` become "any" and "all".
+
+    Examples
+    --------
+    >>> v = np.arange(16, dtype=np.float32).reshape(4, 4); v[0, 0] = np.nan
+    >>> g = WallGrid(v, np.zeros((4, 4), bool), np.ones((4, 4), bool), 0.0, 0.0, 1.0,
+    ...              np.zeros((4, 2)))
+    >>> c = coarsen(g, 2)
+    >>> [[round(float(v), 3) for v in row] for row in c.values], c.x0_mm, c.y0_mm, c.step_mm
+    ([[3.333, 4.5], [10.5, 12.5]], 0.5, -0.5, 2.0)
+    """
+    if factor <= 1:
+        return grid
+    ny, nx = grid.values.shape
+    my, mx = ny // factor, nx // factor
+    v = grid.values[: my * factor, : mx * factor]
+    valid = np.isfinite(v)
+    vs = np.where(valid, v, 0.0).reshape(my, factor, mx, factor).sum(axis=(1, 3))
+    n = valid.reshape(my, factor, mx, factor).sum(axis=(1, 3))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        values = np.where(n > 0, vs / np.maximum(n, 1), np.nan).astype(np.float32)
+
+    def block(m: np.ndarray, how: str) -> np.ndarray:
+        b = m[: my * factor, : mx * factor].reshape(my, factor, mx, factor)
+        return b.any(axis=(1, 3)) if how == "any" else b.all(axis=(1, 3))
+
+    half = 0.5 * (factor - 1) * grid.step_mm
+    return WallGrid(
+        values=values,
+        saturated=block(grid.saturated, "any"),
+        inside=block(grid.inside, "all"),
+        x0_mm=grid.x0_mm + half,
+        y0_mm=grid.y0_mm - half,
+        step_mm=grid.step_mm * factor,
+        footprint_mm=grid.footprint_mm,
+    )
+
+
+#: Cells above which the axis and the smoothing width are found on a coarsened grid.
+COARSE_CELLS: int = 400_000
+
+
+def _coarse_factor(grid: WallGrid) -> int:
+    return max(1, int(np.ceil(np.sqrt(grid.values.size / COARSE_CELLS))))
+
+
+def smoothed_intensity(intensity: WallGrid) -> tuple[np.ndarray, float, float]:
+    """The intensity map smoothed for peak and crossings, with its width and peak.
+
+    The width is :func:`beam_smoothing_sigma_cells` of the 50 % region, found on a coarsened
+    copy for large grids (one fine smoothing pass only).
+
+    Returns
+    -------
+    smoothed : (ny, nx) float32, NaN where the input is
+    sigma_cells : float
+    peak : float
+        Largest smoothed value over cells that are not clipped.
+    """
+    f = _coarse_factor(intensity)
+    coarse = coarsen(intensity, f)
+    cs = smooth_nan(coarse.values, 1.0 if f > 1 else 2.0)
+    cpeak, _ = peak_value(cs, coarse.saturated)
+    region = (cs >= BEAM_LEVEL_FRACTION * cpeak) | coarse.saturated
+    # The width rule of beam_smoothing_sigma_cells, with the thickness in fine cells.
+    sigma = float(np.clip(0.04 * _thickness_cells(region) * f, 1.0, 6.0))
+    smoothed = smooth_nan(intensity.values, sigma)
+    peak, _ = peak_value(smoothed, intensity.saturated)
+    return smoothed, sigma, peak
+
+
 def find_axis(
     illuminance: WallGrid, *, distance_m: float, iterations: int = 4
 ) -> tuple[float, float]:
@@ -215,6 +295,7 @@ def find_axis(
     -------
     (x_mm, y_mm)
     """
+    illuminance = coarsen(illuminance, _coarse_factor(illuminance))
     x_mm, y_mm = grid_coordinates_mm(illuminance)
     sat = illuminance.saturated
     current = illuminance
@@ -331,6 +412,7 @@ def polar_distribution(
     unit: str,
     n_phi: int = 360,
     max_theta_samples: int = 4000,
+    smoothed: tuple[np.ndarray, float, float] | None = None,
 ) -> Distribution:
     """Sample I(theta, phi) on a polar grid and find the beam and field crossings.
 
@@ -346,6 +428,8 @@ def polar_distribution(
     n_phi : int, keyword-only
         Azimuths, uniform on [0, 360).
     max_theta_samples : int, keyword-only
+    smoothed : (map, sigma, peak), keyword-only
+        The result of :func:`smoothed_intensity` when the caller already has it.
 
     Returns
     -------
@@ -360,11 +444,7 @@ def polar_distribution(
     samples is interpolated linearly.
     """
     sat = intensity.saturated
-    smoothed = smooth_nan(intensity.values, 2.0)
-    peak, _ = peak_value(smoothed, sat)
-    sigma = beam_smoothing_sigma_cells((smoothed >= BEAM_LEVEL_FRACTION * peak) | sat)
-    smoothed = smooth_nan(intensity.values, sigma)
-    peak, _ = peak_value(smoothed, sat)
+    smooth_map, _, peak = smoothed if smoothed is not None else smoothed_intensity(intensity)
 
     # Angular extent: the farthest measured cell from the axis.
     x_mm, y_mm = grid_coordinates_mm(intensity)
@@ -379,7 +459,7 @@ def polar_distribution(
     phi_deg = np.arange(n_phi, dtype=np.float64) * (360.0 / n_phi)
 
     # Clipped cells are known to be bright: mark them +inf for the crossing search.
-    work = np.where(sat, np.inf, smoothed).astype(np.float32)
+    work = np.where(sat, np.inf, smooth_map).astype(np.float32)
     work = np.where(inside | sat, work, np.nan).astype(np.float32)
     # remap interpolates inf into neighbours as inf or nan; sample a finite stand-in instead.
     big = np.float32(peak * 1e3)

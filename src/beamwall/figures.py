@@ -23,7 +23,7 @@ from beamwall.constants import (
     FIELD_LEVEL_FRACTION,
     THROW_ILLUMINANCE_LX,
 )
-from beamwall.distribution import grid_coordinates_mm, smooth_nan
+from beamwall.distribution import grid_coordinates_mm
 from beamwall.results import Distribution
 from beamwall.wall import WallGrid
 
@@ -156,34 +156,43 @@ def largest_cone_half_angle_deg(radius_mm: float, *, distance_m: float) -> float
     return round(float(np.floor(alpha / CONE_STEP_DEG + 1e-6) * CONE_STEP_DEG), 1)
 
 
-def _field_region(intensity: WallGrid, peak: float, sigma_cells: float) -> np.ndarray:
-    smoothed = smooth_nan(intensity.values, sigma_cells)
-    return (smoothed >= FIELD_LEVEL_FRACTION * peak) | intensity.saturated
-
-
-def saturated_fraction(intensity: WallGrid, *, peak: float, sigma_cells: float = 2.0) -> float:
+def saturated_fraction(
+    intensity: WallGrid, *, peak: float, smoothed: np.ndarray | None = None
+) -> float:
     """Share of the cells inside the field-angle contour that are clipped in every exposure.
+
+    Parameters
+    ----------
+    intensity : WallGrid
+    peak : float
+    smoothed : (ny, nx) array, optional, keyword-only
+        The smoothed intensity the contour is drawn on (default: the raw values).
 
     Examples
     --------
     >>> v = np.array([[1.0, np.nan, 0.5, 0.01]], np.float32)
     >>> sat = np.array([[False, True, False, False]])
     >>> g = WallGrid(v, sat, np.ones_like(sat), 0.0, 0.0, 1.0, np.zeros((4, 2)))
-    >>> round(saturated_fraction(g, peak=1.0, sigma_cells=0.0), 3)
+    >>> round(saturated_fraction(g, peak=1.0), 3)
     0.333
     """
-    region = _field_region(intensity, peak, sigma_cells)
+    s = intensity.values if smoothed is None else smoothed
+    with np.errstate(invalid="ignore"):
+        region = (s >= FIELD_LEVEL_FRACTION * peak) | intensity.saturated
     n = int(region.sum())
     return float((region & intensity.saturated).sum() / n) if n else 0.0
 
 
-def clipped_peak_fraction(intensity: WallGrid, *, peak: float, sigma_cells: float = 2.0) -> float:
+def clipped_peak_fraction(
+    intensity: WallGrid, *, peak: float, smoothed: np.ndarray | None = None
+) -> float:
     """Share of the cells inside the 50 % contour that are clipped in every exposure.
 
     A clipped hotspot hides the peak: the measured maximum is only a lower bound.
     """
-    smoothed = smooth_nan(intensity.values, sigma_cells)
-    region = (smoothed >= BEAM_LEVEL_FRACTION * peak) | intensity.saturated
+    s = intensity.values if smoothed is None else smoothed
+    with np.errstate(invalid="ignore"):
+        region = (s >= BEAM_LEVEL_FRACTION * peak) | intensity.saturated
     n = int(region.sum())
     return float((region & intensity.saturated).sum() / n) if n else 0.0
 

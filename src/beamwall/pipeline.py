@@ -38,7 +38,13 @@ from beamwall.calibrate import (
     fit_lux_reference,
 )
 from beamwall.constants import REC709_LUMINANCE_WEIGHTS
-from beamwall.distribution import find_axis, intensity_map, polar_distribution, smooth_nan
+from beamwall.distribution import (
+    find_axis,
+    intensity_map,
+    polar_distribution,
+    smooth_nan,
+    smoothed_intensity,
+)
 from beamwall.errors import CalibrationError, ImageError, InputError
 from beamwall.figures import (
     angle_summary,
@@ -257,10 +263,12 @@ def analyse_shot(
         axis = (float(axis_mm[0]), float(axis_mm[1]))
     imap = intensity_map(illum, axis_mm=axis, distance_m=distance_m)
     unit = "cd" if calibration is not None else "relative"
-    dist = polar_distribution(imap, axis_mm=axis, distance_m=distance_m, unit=unit)
+    smoothed = smoothed_intensity(imap)
+    dist = polar_distribution(imap, axis_mm=axis, distance_m=distance_m, unit=unit,
+                              smoothed=smoothed)
     peak = dist.peak
 
-    clipped = clipped_peak_fraction(imap, peak=peak)
+    clipped = clipped_peak_fraction(imap, peak=peak, smoothed=smoothed[0])
     if clipped > MAX_CLIPPED_PEAK_FRACTION:
         raise ImageError(
             f"the hotspot is clipped in every exposure ({100 * clipped:.1f} % of the 50 % "
@@ -273,7 +281,7 @@ def analyse_shot(
             f"{100 * clipped:.2f} % of the 50 % region is clipped in every exposure: the peak "
             "may read slightly low"
         )
-    sat_frac = saturated_fraction(imap, peak=peak)
+    sat_frac = saturated_fraction(imap, peak=peak, smoothed=smoothed[0])
 
     beam = angle_summary(dist.beam_half_angle_deg)
     field = angle_summary(dist.field_half_angle_deg)
@@ -290,10 +298,14 @@ def analyse_shot(
 
     radius_mm = wall.largest_inscribed_radius_mm(grid.footprint_mm, axis) - grid.step_mm
     alpha = largest_cone_half_angle_deg(radius_mm, distance_m=distance_m)
-    fill = smooth_nan(illum.values, 3.0)
+    fill = None
+    if grid.saturated.any():
+        # Clipped cells carry no value: fill them from their smoothed neighbourhood (a lower
+        # bound, since they are brighter than their surroundings).
+        fill = np.nan_to_num(smooth_nan(illum.values, 3.0), nan=0.0)
     cone_deg, cone_flux = cumulative_cone_flux(
         illum, axis_mm=axis, distance_m=distance_m, max_half_angle_deg=max(alpha, 0.0),
-        fill=np.nan_to_num(fill, nan=0.0),
+        fill=fill,
     )
     flux = float(cone_flux[-1]) if alpha > 0 else None
     if alpha <= 0:
