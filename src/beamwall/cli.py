@@ -19,6 +19,7 @@ from typing import Any, TypeVar
 import click
 
 from beamwall import __version__
+from beamwall.cli_power import power
 from beamwall.errors import BeamwallError, InputError
 
 F = TypeVar("F", bound=Callable[..., Any])
@@ -210,19 +211,15 @@ def run_measure(
 
 def _write_extras(result: Any, outdir: Path) -> None:
     """The report, CSV and LM-63 files, where the report package provides them."""
-    try:
-        from beamwall.report import csvfile, html, ies
-    except ImportError:  # pragma: no cover - the report writers are optional
-        return
-    if not hasattr(ies, "slug"):  # pragma: no cover - report writers still being integrated
-        return
-    _atomic_write(outdir / "figures.csv", lambda p: csvfile.write_csv(result, p))
+    from beamwall.report import ies_slug, ies_text, write_csv, write_html
+
+    _atomic_write(outdir / "figures.csv", lambda p: write_csv(result, p))
     for shot in result.shots:
-        name = ies.slug(shot.label) + ".ies"
-        text = ies.ies_text(shot)
+        text = ies_text(shot)
         if text is not None:
-            _atomic_write(outdir / name, lambda p, t=text: p.write_text(t, encoding="ascii"))
-    _atomic_write(outdir / "report.html", lambda p: html.write_html(result, p))
+            _atomic_write(outdir / (ies_slug(shot.label) + ".ies"),
+                          lambda p, t=text: p.write_bytes(t.encode("ascii")))
+    _atomic_write(outdir / "report.html", lambda p: write_html(result, p))
 
 
 def _print_result(result: Any, outdir: Path) -> None:
@@ -290,6 +287,9 @@ def demo(outdir: Path | None, force: bool, seed: int) -> None:
     click.echo("against the renderer's ground truth:")
     click.echo(scenario.format_truth_comparison(result, written.truth))
     click.echo(CAUTION, err=True)
+
+
+main.add_command(power)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -22,7 +22,7 @@ from __future__ import annotations
 
 import datetime as _dt
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
@@ -37,6 +37,7 @@ from beamwall.calibrate import (
     fit_lamp_reference,
     fit_lux_reference,
 )
+from beamwall.compare import session_comparisons
 from beamwall.constants import REC709_LUMINANCE_WEIGHTS
 from beamwall.distribution import (
     find_axis,
@@ -254,8 +255,6 @@ def analyse_shot(
     warnings: list[str] = list(sig.warnings)
     k = calibration.lux_per_signal if calibration is not None else 1.0
     grid = sig.grid
-    from dataclasses import replace
-
     illum = replace(grid, values=(grid.values * np.float32(k)).astype(np.float32))
     if axis_mm is None:
         axis = find_axis(illum, distance_m=distance_m)
@@ -358,8 +357,6 @@ def analyse_shot(
 
 
 def _with_relative(shots: list[ShotResult]) -> list[ShotResult]:
-    from dataclasses import replace
-
     if not shots:
         return shots
     first = shots[0]
@@ -454,13 +451,20 @@ def measure_session(
             axis_mm=session.wall.axis_mm, calibration=calibration, file=file, where=where,
         )
         if extra:
-            from dataclasses import replace
-
             res = replace(res, warnings=tuple(extra) + res.warnings)
         results.append(res)
         inputs.extend(sig.inputs)
     progress("done", total, total)
     results = _with_relative(results)
+    comparison = session_comparisons(
+        results, session.shots, session_electrical_spec=session.electrical, source=file
+    )
+    own_checks = dict(comparison.shot_electrical)
+    results = [
+        replace(r, electrical=own_checks[r.label].to_dict()) if r.label in own_checks else r
+        for r in results
+    ]
+    cmp = comparison.to_dict()
     cal_summary = None
     if calibration is not None:
         cal_summary = {
@@ -484,6 +488,11 @@ def measure_session(
         title=session.title,
         session_file=file,
         calibration=cal_summary,
+        zoom=cmp.get("zoom"),
+        modes=tuple(cmp.get("modes") or ()),
+        electrical=cmp.get("electrical"),
+        claims=tuple(cmp.get("claims") or ()),
+        warnings=tuple(comparison.warnings),
         inputs=tuple(inputs),
         created_utc=_utc_now(),
         settings={

@@ -101,6 +101,7 @@ class SessionResult:
     session_file: str | None = None
     calibration: dict[str, Any] | None = None    # summary of the calibration used
     zoom: dict[str, Any] | None = None
+    modes: tuple[dict[str, Any], ...] = ()       # each mode against the brightest, per zoom
     electrical: dict[str, Any] | None = None
     claims: tuple[dict[str, Any], ...] = ()
     warnings: tuple[str, ...] = ()

@@ -80,10 +80,11 @@ def results_to_dict(result: SessionResult) -> dict[str, Any]:
     }
     if result.zoom is not None:
         d["zoom"] = _clean(result.zoom)
+    if result.modes:
+        d["modes"] = _clean(list(result.modes))
     if result.electrical is not None:
         d["electrical"] = _clean(result.electrical)
-    if result.claims:
-        d["claims"] = _clean(list(result.claims))
+    d["claims"] = _clean(list(result.claims))
     d["title"] = result.title
     d["session_file"] = result.session_file
     d["calibration"] = _clean(result.calibration)
