@@ -60,7 +60,7 @@ def child(folder: Path, repeat: int) -> None:
     import numpy as np
 
     from beamwall import images, linear, wall
-    from beamwall.pipeline import ShotSignal, analyse_shot
+    from beamwall.pipeline import MAX_WALL_CELLS, ShotSignal, analyse_shot
 
     pts = np.array(json.loads((folder / "points.json").read_text()))
     mapping = wall.fit_homography(pts[:, :2], pts[:, 2:])
@@ -73,7 +73,8 @@ def child(folder: Path, repeat: int) -> None:
         exp = linear.Exposure(frame.exposure_s, frame.f_number, frame.iso)
         sig = linear.normalise([frame.pixels], [exp], darks=[dark.pixels], encoding="srgb",
                                focal_length_px=images.focal_length_px(frame))
-        grid = wall.resample_to_wall(sig.value, sig.saturated, mapping)
+        grid = wall.resample_to_wall(sig.value, sig.saturated, mapping,
+                                     max_cells=MAX_WALL_CELLS)
         shot = ShotSignal(grid=grid, first_frame=frame, encoding="srgb", focal_length_px=None,
                           exposures=(exp,), source_pixels_per_cell=1.0, inputs=(),
                           warnings=())

@@ -76,6 +76,12 @@ ProgressCallback = Callable[[str, int, int], None]
 MAX_CLIPPED_PEAK_FRACTION: float = 0.01
 
 
+#: Cells of the wall grid at most. 1.5 M cells over a photo's footprint keep a 4 deg spot at
+#: 3 m some 50 cells across (its crossings interpolate to ~0.1 cell) while holding a 24 MP
+#: photo's analysis near its decode time (docs/performance.md).
+MAX_WALL_CELLS: int = 1_500_000
+
+
 def _noop(stage: str, done: int, total: int) -> None:
     return None
 
@@ -193,7 +199,8 @@ def load_shot_signal(
         focal_length_px=focal_px,
         weights=weights,
     )
-    grid = wall.resample_to_wall(signal.value, signal.saturated, mapping)
+    grid = wall.resample_to_wall(signal.value, signal.saturated, mapping,
+                                 max_cells=MAX_WALL_CELLS)
     fp = grid.footprint_mm
     # Photo pixels per grid cell (area), for the statistics of averages over the wall.
     wall_area_mm2 = 0.5 * abs(
