@@ -38,6 +38,8 @@ class Case:
     suffix: str = ".jpg"
     colour: tuple[float, float, float] = synth.COOL_WHITE_LED_RGB
     bracket: bool = False
+    exif: str = "full"          # "full"; "no_focal" (focal length from the mapping); "none"
+    reference: str = "lamp"     # "lamp" (known cd) or "lux" (a lux reading at a point)
 
 
 def _pose(x_m, y_m, z_m, *, f_px, w=960, h=640, roll=0.0):
@@ -72,13 +74,27 @@ CASES = [
                                                     hotspot_half_angle_deg=4.0,
                                                     spill_cd=250.0, spill_half_angle_deg=20.0),
          2.0, _pose(0.5, 0.3, 2.5, f_px=700.0), bracket=True),
+    # No focal length in EXIF: estimated from the wall mapping (camera tilted ~17 deg).
+    Case("no-focal-exif-flood", synth.FlatFlood(plateau_cd=200.0, half_angle_deg=22.0),
+         1.5, _pose(0.6, 0.3, 2.0, f_px=600.0), exif="no_focal"),
+    # No EXIF at all (16-bit TIFF): exposure times from the session, f-number and ISO unknown
+    # in calibration and session alike; calibrated with a lux reading.
+    Case("no-exif-tiff-lux", synth.HotspotSpill(hotspot_cd=5000.0, hotspot_half_angle_deg=5.0,
+                                                spill_cd=200.0, spill_half_angle_deg=22.0),
+         2.0, _pose(-0.5, 0.2, 2.4, f_px=800.0), encoding="linear", suffix=".tif",
+         exif="none", reference="lux"),
 ]
 
 
-def _write_photo(path: Path, pixels: np.ndarray, exp: Exposure, pose: synth.CameraPose) -> None:
+def _write_photo(path: Path, pixels: np.ndarray, exp: Exposure, pose: synth.CameraPose,
+                 exif: str = "full") -> None:
+    if exif == "none":
+        write_image(path, pixels)
+        return
+    focal = {} if exif == "no_focal" else {
+        "focal_length_mm": 5.0, "focal_plane_px_per_mm": pose.focal_length_px / 5.0}
     write_image(path, pixels, exposure_s=exp.exposure_s, f_number=exp.f_number, iso=exp.iso,
-                focal_length_mm=5.0, focal_plane_px_per_mm=pose.focal_length_px / 5.0,
-                make="Synthetic", model="Test camera")
+                make="Synthetic", model="Test camera", **focal)
 
 
 def _wall_points(pose: synth.CameraPose, rng: np.random.Generator) -> str:
@@ -111,10 +127,20 @@ def write_case(case: Case, tmp: Path) -> tuple[Path, Path]:
     t = synth.nominal_shutter_s(synth.auto_exposure_s(lamp, f_number=4.0, iso=100.0))
     lamp_exp = Exposure(t, 4.0, 100.0)
     _write_photo(tmp / f"lamp{case.suffix}", _render(lamp, lamp_exp, case, 1), lamp_exp,
-                 case.camera)
+                 case.camera, case.exif)
+    if case.reference == "lamp":
+        ref = "intensity_cd = 100.0\ndistance_m = 1.5\naxis_mm = [0.0, 0.0]\n"
+    else:
+        # A lux meter read at a wall point 150 mm right and 100 mm up of the lamp's axis:
+        # E = I cos^3(theta) / d^2 (inverse-square and cosine laws).
+        at = (150.0, 100.0)
+        e_lx = synth.wall_illuminance_lx(lamp, np.array([at]))[0]
+        ref = f"illuminance_lx = {float(e_lx):.6g}\nat_mm = [{at[0]}, {at[1]}]\n"
+    if case.exif == "none":
+        ref += f"exposure_s = {lamp_exp.exposure_s}\n"
     (tmp / "cal.toml").write_text(
         f"[wall]\n{walltoml}\n\n{cam}\n[reference]\nimages = [\"lamp{case.suffix}\"]\n"
-        "intensity_cd = 100.0\ndistance_m = 1.5\naxis_mm = [0.0, 0.0]\n")
+        + ref)
 
     scene = synth.Scene(beam=case.beam, distance_m=case.distance_m, camera=case.camera,
                         ambient_lx=0.2, colour_rgb=case.colour)
@@ -125,14 +151,17 @@ def write_case(case: Case, tmp: Path) -> tuple[Path, Path]:
     names = []
     for i, e in enumerate(exps):
         name = f"shot{i}{case.suffix}"
-        _write_photo(tmp / name, _render(scene, e, case, 10 + i), e, case.camera)
+        _write_photo(tmp / name, _render(scene, e, case, 10 + i), e, case.camera, case.exif)
         names.append(f'"{name}"')
     _write_photo(tmp / f"dark{case.suffix}", _render(scene, exps[0], case, 20, beam_on=False),
-                 exps[0], case.camera)
+                 exps[0], case.camera, case.exif)
+    times = ""
+    if case.exif == "none":
+        times = f"exposures_s = [{', '.join(str(e.exposure_s) for e in exps)}]\n"
     (tmp / "session.toml").write_text(
         f"[rig]\ndistance_m = {case.distance_m}\n\n[wall]\n{walltoml}\n\n{cam}\n"
         f"[[shot]]\nlabel = \"{case.name}\"\nimages = [{', '.join(names)}]\n"
-        f"dark = \"dark{case.suffix}\"\n")
+        f"dark = \"dark{case.suffix}\"\n{times}")
     return tmp / "cal.toml", tmp / "session.toml"
 
 

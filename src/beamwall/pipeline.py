@@ -31,6 +31,7 @@ import numpy as np
 from beamwall import __version__
 from beamwall import images as img
 from beamwall import linear, wall
+from beamwall.camera_geometry import focal_length_from_homography
 from beamwall.calibrate import (
     Calibration,
     ReferenceFit,
@@ -102,6 +103,7 @@ class ShotSignal:
     source_pixels_per_cell: float
     inputs: tuple[InputFile, ...]
     warnings: tuple[str, ...]
+    assumed: frozenset[str] = frozenset()     # exposure keys found nowhere (f_number, iso)
 
 
 def _resolve_exposure(
@@ -112,32 +114,45 @@ def _resolve_exposure(
     own: dict[str, Any],
     where: str,
     file: str,
+    fallback: dict[str, float | None],
+    warnings: list[str],
+    assumed: set[str],
 ) -> linear.Exposure:
-    """Exposure of one image: the shot's own values, then EXIF, then ``[camera]``."""
+    """Exposure of one image: the shot's own values, then EXIF, then ``[camera]``.
+
+    The exposure time is required. An f-number or ISO found nowhere is taken as the
+    ``fallback`` (the calibration's, so that the ratio is 1), or as f/1 and ISO 100 when the
+    calibration did not know it either; a warning says so.
+    """
     exposures_s = own.get("exposures_s")
-    values: dict[str, float | None] = {}
     t = exposures_s[index] if exposures_s else own.get("exposure_s")
-    values["exposure_s"] = t if t is not None else (
-        frame.exposure_s if frame.exposure_s else camera.exposure_s
-    )
-    for key in ("f_number", "iso"):
+    if t is None:
+        t = frame.exposure_s if frame.exposure_s else camera.exposure_s
+    if t is None:
+        raise InputError(
+            f"no exposure time for {frame.path.name}: the photo carries no EXIF ExposureTime; "
+            f"give 'exposure_s' in [camera] or in the {where}",
+            file=file,
+            field=f"{where} exposure_s",
+        )
+    values: dict[str, float] = {}
+    for key, nominal in (("f_number", 1.0), ("iso", 100.0)):
         v = own.get(key)
         if v is None:
             v = getattr(frame, key) or getattr(camera, key)
-        values[key] = v
-    for key, v in values.items():
         if v is None:
-            raise InputError(
-                f"no {key} for {frame.path.name}: the photo carries no EXIF value; give "
-                f"'{key}' in [camera] or in the {where}",
-                file=file,
-                field=f"{where} {key}",
-            )
-    return linear.Exposure(
-        exposure_s=float(values["exposure_s"]),  # type: ignore[arg-type]
-        f_number=float(values["f_number"]),  # type: ignore[arg-type]
-        iso=float(values["iso"]),  # type: ignore[arg-type]
-    )
+            assumed.add(key)
+            known = fallback.get(key)
+            v = known if known is not None else nominal
+            note = (f"the calibration's {known:g}" if known is not None
+                    else "unknown in the calibration too")
+            msg = (f"{frame.path.name}: no {key} (no EXIF, none in [camera] or the "
+                   f"{where}): assumed unchanged since the calibration ({note})")
+            if msg not in warnings:
+                warnings.append(msg)
+        values[key] = float(v)
+    return linear.Exposure(exposure_s=float(t), f_number=values["f_number"],
+                           iso=values["iso"])
 
 
 def _mapping(spec: WallSpec, *, file: str) -> wall.WallMapping:
@@ -162,8 +177,14 @@ def load_shot_signal(
     where: str,
     file: str,
     weights: tuple[float, float, float] = REC709_LUMINANCE_WEIGHTS,
+    fallback: dict[str, float | None] | None = None,
 ) -> ShotSignal:
-    """Read, normalise and map to the wall one shot (or the reference) of a session."""
+    """Read, normalise and map to the wall one shot (or the reference) of a session.
+
+    ``fallback`` holds the calibration's f-number and ISO, assumed for photos that give none.
+    """
+    notes: list[str] = []
+    assumed: set[str] = set()
     frames = [img.read_frame(p) for p in images]
     dark_frames = [img.read_frame(p) for p in darks]
     first = frames[0]
@@ -176,7 +197,8 @@ def load_shot_signal(
             )
     encoding = camera.encoding or ("srgb" if first.bit_depth == 8 else "linear")
     exposures = tuple(
-        _resolve_exposure(f, i, camera=camera, own=own, where=where, file=file)
+        _resolve_exposure(f, i, camera=camera, own=own, where=where, file=file,
+                          fallback=fallback or {}, warnings=notes, assumed=assumed)
         for i, f in enumerate(frames)
     )
     if len(dark_frames) == 0:
@@ -188,6 +210,17 @@ def load_shot_signal(
     else:
         dark_arrays = [d.pixels for d in dark_frames]
     focal_px = img.focal_length_px(first, override_px=camera.focal_length_px)
+    if focal_px is None:
+        est = focal_length_from_homography(mapping.wall_to_px, first.shape)
+        if est.focal_length_px is not None:
+            focal_px = est.focal_length_px
+            notes.append(
+                f"no focal length in EXIF or [camera]: {focal_px:.0f} px estimated from the "
+                f"wall mapping (camera tilted {est.tilt_deg:.0f} deg to the wall) for the "
+                "natural cos^4 falloff; give focal_length_px for a better correction"
+            )
+        else:
+            notes.append(f"focal length unknown and not estimable ({est.reason})")
     white = camera.white_level
     signal = linear.normalise(
         [f.pixels for f in frames],
@@ -218,7 +251,8 @@ def load_shot_signal(
         exposures=exposures,
         source_pixels_per_cell=float(px_per_cell),
         inputs=inputs,
-        warnings=tuple(signal.warnings),
+        warnings=tuple(notes) + tuple(signal.warnings),
+        assumed=frozenset(assumed),
     )
 
 
@@ -447,6 +481,7 @@ def measure_session(
         sig = load_shot_signal(
             shot.images, shot.darks, camera=session.camera, own=_shot_own(shot),
             mapping=mapping, where=where, file=file,
+            fallback=dict(calibration.exposure) if calibration is not None else None,
         )
         extra: list[str] = []
         if calibration is not None:
@@ -579,7 +614,11 @@ def calibrate_session(
         camera_model=f.model,
         image_size_px=(f.shape[1], f.shape[0]),
         focal_length_px=sig.focal_length_px,
-        exposure={"exposure_s": e0.exposure_s, "f_number": e0.f_number, "iso": e0.iso},
+        exposure={
+            "exposure_s": e0.exposure_s,
+            "f_number": None if "f_number" in sig.assumed else e0.f_number,
+            "iso": None if "iso" in sig.assumed else e0.iso,
+        },
         reference=reference,
         budget=fit.budget,
         warnings=tuple(warnings),
