@@ -244,7 +244,7 @@ def _bad_files(tmp_path):
         "junk.jpg": (b"\xff\xd8\xff" + bytes(200) + b"\xff\xda\xff\xd9", "cannot decode"),
         "float.tif": (float_tif.getvalue(), "unsupported sample type float32"),
         "five.tif": (five.getvalue(), "unsupported image layout"),
-        "raw.dng": (good_tif, "camera raw"),
+        "raw.dng": (good_tif, "not a DNG"),
     }
 
 

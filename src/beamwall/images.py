@@ -14,7 +14,18 @@ PNG    OpenCV (``cv2.imdecode``, unchanged)         ``eXIf`` chunk [PNG]_
 TIFF   tifffile (OpenCV when tifffile lacks codecs) Exif sub-IFD [EXIF]_, else IFD0 [TIFFEP]_
 ====== ============================================ ==========================================
 
-Camera raw files (DNG, NEF, CR2, ...) are not read yet: convert them to a linear 16-bit TIFF.
+Camera raw files (DNG, NEF, CR2, ARW, ...; recognised by their suffix) are read with rawpy
+(LibRaw) [LIBRAW]_: the sensor's data as stored (``raw_image_visible``), each photosite's black
+level subtracted and divided by (white level - black level), then each 2 x 2 Bayer block
+summed with the luminance weights of its colours (R: w_R, each G: w_G / 2, B: w_B, Rec. 709's
+by default [BT709]_) into one luminance sample. No demosaicing, white balance, brightening or
+tone curve is applied. The frame is then half the sensor's size in each direction
+(``Frame.binning`` = 2, ``Frame.raw`` = True), its ``pixels`` linear float32, 0 at black and 1
+at white; a block with any photosite at or above black + 0.98 (white - black) (the linear clip
+fraction) is set to exactly 1.0, so the linear room counts it as clipped. The camera's RGB is
+not Rec. 709's RGB: the weights make a luminance-like signal whose scale the calibration
+fixes (the same camera and weights for calibration and measurement). EXIF comes from the file
+(exifread reads TIFF-based raw files, DNG included).
 
 References
 ----------
@@ -31,6 +42,14 @@ References
 .. [PNG] W3C, *Portable Network Graphics (PNG) Specification (Third Edition)* (2025),
    section 11.3.6 ``eXIf``: an Exif profile that starts with the TIFF header ("II" or "MM"),
    placed before the first IDAT chunk; section 5.3: chunk layout (length, type, data, CRC-32).
+.. [LIBRAW] LibRaw API documentation (libraw.org), "Data structures": ``raw_image`` visible
+   area, ``color.black`` + ``cblack`` per channel, ``color.maximum`` (white level), the CFA
+   pattern; rawpy exposes them as ``raw_image_visible``, ``black_level_per_channel``,
+   ``white_level``, ``raw_colors_visible`` and ``color_desc``.
+.. [BT709] ITU-R Recommendation BT.709-6 (2015), item 3.2: Y = 0.2126 R + 0.7152 G + 0.0722 B.
+.. [DNG] Adobe, *Digital Negative (DNG) Specification*, version 1.4.0.0 (2012): the CFA tags
+   (CFARepeatPatternDim 33421, CFAPattern 33422, CFAPlaneColor 50710, CFALayout 50711), the
+   black and white level tags (BlackLevelRepeatDim 50713, BlackLevel 50714, WhiteLevel 50717).
 .. [JPEG] ITU-T T.81 (1992), *Digital compression and coding of continuous-tone still
    images*, annex B: markers SOS (0xFFDA) and EOI (0xFFD9).
 """
@@ -45,6 +64,7 @@ import struct
 import zlib
 from dataclasses import dataclass
 from fractions import Fraction
+from collections.abc import Sequence
 from os import PathLike
 from pathlib import Path
 from typing import Any
@@ -56,10 +76,12 @@ import tifffile
 from PIL import Image
 from PIL.TiffImagePlugin import IFDRational
 
-from beamwall.constants import FULL_FRAME_DIAGONAL_MM
+from beamwall.constants import FULL_FRAME_DIAGONAL_MM, REC709_LUMINANCE_WEIGHTS
 from beamwall.errors import ImageError
 
-__all__ = ["Frame", "read_frame", "write_image", "focal_length_px"]
+__all__ = ["Frame", "read_frame", "write_image", "write_dng", "focal_length_px",
+           "frame_pixel_xy",
+           "RAW_SUFFIXES", "RAW_CLIP_FRACTION"]
 
 # exifread logs "file does not have exif data" at WARNING level and tifffile logs oddities of
 # unusual files; without a handler, Python's last-resort handler would print them. A library
@@ -73,12 +95,18 @@ _JPEG_SOI = b"\xff\xd8\xff"
 _JPEG_SOS = b"\xff\xda"
 _JPEG_EOI = b"\xff\xd9"
 
-#: TIFF-based camera raw formats, recognised by extension and refused (their first IFD is
-#: often a small preview, which must not be measured by mistake).
-_RAW_SUFFIXES = frozenset(
-    {".dng", ".nef", ".nrw", ".cr2", ".arw", ".srf", ".sr2", ".orf", ".rw2", ".pef", ".srw",
-     ".erf", ".kdc", ".dcr", ".mos", ".iiq", ".3fr", ".fff", ".raw", ".rwl"}
+#: Camera raw formats, recognised by extension and read with LibRaw (their first IFD is often
+#: a small preview, which must not be measured by mistake).
+RAW_SUFFIXES = frozenset(
+    {".dng", ".nef", ".nrw", ".cr2", ".cr3", ".crw", ".arw", ".srf", ".sr2", ".orf", ".rw2",
+     ".raf", ".pef", ".srw", ".erf", ".kdc", ".dcr", ".mos", ".iiq", ".3fr", ".fff", ".raw",
+     ".rwl", ".x3f"}
 )
+_RAW_SUFFIXES = RAW_SUFFIXES
+
+#: A raw photosite at or above black + this fraction of (white - black) is clipped (the same
+#: fraction as ``linear.LINEAR_CLIP_FRACTION``; common practice, no source).
+RAW_CLIP_FRACTION: float = 0.98
 
 # Exif tag numbers [EXIF].
 _TAG_MAKE = 0x010F
@@ -106,10 +134,11 @@ class Frame:
     ----------
     path : Path
         The file as given to :func:`read_frame`.
-    pixels : ndarray, (H, W) or (H, W, 3), uint8 or uint16
-        Pixel values as stored, RGB order, alpha dropped, no orientation applied.
+    pixels : ndarray, (H, W) or (H, W, 3), uint8 or uint16; raw: (H, W) float32
+        Pixel values as stored, RGB order, alpha dropped, no orientation applied. For a raw
+        file: binned linear luminance, 0 at black, 1 at white, clipped blocks exactly 1.0.
     bit_depth : int
-        8 or 16 (bits per sample of ``pixels``).
+        8 or 16 (bits per sample of ``pixels``; 16 for raw files).
     sha256 : str
         Hex SHA-256 of the file's bytes.
     exposure_s : float or None
@@ -130,6 +159,18 @@ class Frame:
         EXIF Orientation, 1 to 8, recorded only: ``pixels`` are not rotated.
     warnings : tuple of str
         Soft problems met while reading (e.g. an EXIF field that could not be parsed).
+    raw : bool
+        A camera raw file: ``pixels`` are linear float32 already (decode as ``"linear"`` with
+        black 0 and white 1.0).
+    binning : int
+        Sensor pixels per frame pixel along each axis (2 for raw files, else 1); see
+        :func:`frame_pixel_xy`.
+    black_levels : tuple of float or None
+        Raw files: black level of each photosite of the 2 x 2 CFA block, row-major, DN.
+    white_level : float or None
+        Raw files: the sensor's white (clipping) level, DN.
+    cfa_pattern : str or None
+        Raw files: colours of the 2 x 2 CFA block, row-major, e.g. "RGGB".
     """
 
     path: Path
@@ -146,6 +187,11 @@ class Frame:
     model: str | None = None
     orientation: int | None = None
     warnings: tuple[str, ...] = ()
+    raw: bool = False
+    binning: int = 1
+    black_levels: tuple[float, ...] | None = None
+    white_level: float | None = None
+    cfa_pattern: str | None = None
 
     @property
     def shape(self) -> tuple[int, int]:
@@ -175,8 +221,8 @@ def read_frame(path: str | PathLike[str]) -> Frame:
     Raises
     ------
     ImageError
-        The file cannot be read, is empty, truncated, not JPEG/PNG/TIFF, a camera raw file, or
-        holds samples that are not 8- or 16-bit unsigned integers or not grey/RGB(A). The
+        The file cannot be read, is empty, truncated, not JPEG/PNG/TIFF or a raw file LibRaw
+        reads (a raw file: not a 2 x 2 Bayer sensor), or holds samples that are not 8- or 16-bit unsigned integers or not grey/RGB(A). The
         message is one line and names the file.
 
     Notes
@@ -207,13 +253,14 @@ def read_frame(path: str | PathLike[str]) -> Frame:
     if not data:
         raise ImageError("empty file", file=path)
     kind = _sniff(data)
+    if path.suffix.lower() in RAW_SUFFIXES:
+        raw = _read_raw(data, path)
+        fields, warnings = _read_exif(data, kind or "raw")
+        return Frame(path=path, pixels=raw.pop("pixels"), bit_depth=16,
+                     sha256=hashlib.sha256(data).hexdigest(), warnings=warnings, raw=True,
+                     binning=2, **raw, **fields)
     if kind is None:
         raise ImageError("not a JPEG, PNG or TIFF file", file=path)
-    if kind == "tiff" and path.suffix.lower() in _RAW_SUFFIXES:
-        raise ImageError(
-            f"camera raw files ({path.suffix}) are not read yet: convert to a linear 16-bit TIFF",
-            file=path,
-        )
     pixels = _decode_pixels(data, kind, path)
     fields, warnings = _read_exif(data, kind)
     return Frame(
@@ -224,6 +271,87 @@ def read_frame(path: str | PathLike[str]) -> Frame:
         warnings=warnings,
         **fields,
     )
+
+
+def _read_raw(data: bytes, path: Path) -> dict[str, Any]:
+    """Bin a raw file's Bayer data to linear luminance (see the module docstring)."""
+    try:
+        import rawpy
+    except ImportError:  # pragma: no cover - the "raw" extra
+        raise ImageError("camera raw files need the rawpy package (pip install rawpy)",
+                         file=path) from None
+    if path.suffix.lower() == ".dng":
+        # LibRaw takes any grey TIFF for a raw file; a DNG names its version in IFD0 [DNG]_.
+        try:
+            with tifffile.TiffFile(io.BytesIO(data)) as tif:
+                is_dng = 50706 in tif.pages.first.tags
+        except Exception:
+            is_dng = False
+        if not is_dng:
+            raise ImageError("not a DNG file (no DNGVersion tag)", file=path)
+    try:
+        with rawpy.imread(io.BytesIO(data)) as raw:
+            mosaic = np.array(raw.raw_image_visible, copy=True)
+            colours = np.array(raw.raw_colors_visible[:2, :2], copy=True)
+            desc = raw.color_desc.decode("ascii", "replace")
+            blacks = [float(b) for b in raw.black_level_per_channel]
+            white = float(raw.white_level)
+    except Exception as exc:  # LibRaw's errors share no useful base; report the reason
+        reason = " ".join(str(exc).strip("b'\"").split()) or type(exc).__name__
+        raise ImageError(f"LibRaw cannot read this raw file: {reason}", file=path) from None
+    letters = "".join(desc[int(c)] if int(c) < len(desc) else "?" for c in colours.ravel())
+    if mosaic.ndim != 2 or sorted(letters) != ["B", "G", "G", "R"]:
+        raise ImageError(f"only 2 x 2 Bayer sensors (R, G, G, B) are read; this one's CFA "
+                         f"block is {letters!r}", file=path)
+    h, w = (mosaic.shape[0] // 2) * 2, (mosaic.shape[1] // 2) * 2
+    if h < 2 or w < 2:
+        raise ImageError("raw image has no pixels", file=path)
+    weights = dict(zip("RGB", REC709_LUMINANCE_WEIGHTS))
+    out = np.zeros((h // 2, w // 2), np.float32)
+    clipped = np.zeros((h // 2, w // 2), bool)
+    site_blacks = []
+    for k, letter in enumerate(letters):
+        dy, dx = divmod(k, 2)
+        black = blacks[int(colours[dy, dx])]
+        site_blacks.append(black)
+        if not white > black:
+            raise ImageError(f"white level {white:g} not above black level {black:g}",
+                             file=path)
+        sub = mosaic[dy:h:2, dx:w:2]
+        clipped |= sub >= black + RAW_CLIP_FRACTION * (white - black)
+        share = weights[letter] / letters.count(letter)
+        out += (sub.astype(np.float32) - np.float32(black)) * np.float32(share / (white - black))
+    out[clipped] = 1.0
+    return {"pixels": out, "black_levels": tuple(site_blacks), "white_level": white,
+            "cfa_pattern": letters}
+
+
+def frame_pixel_xy(frame: Frame, pixel_xy: np.typing.ArrayLike) -> np.ndarray:
+    """Turn positions in the photo as stored (e.g. a session's points) into frame pixels.
+
+    Parameters
+    ----------
+    frame : Frame
+    pixel_xy : (..., 2) array_like
+        Positions in the file's full-resolution pixels (for raw files, sensor photosites of
+        the visible area), px.
+
+    Returns
+    -------
+    (..., 2) float64
+        Positions in ``frame.pixels``, px: (u - (b - 1) / 2) / b with b = ``frame.binning``
+        (a b x b block's centre lands on its binned pixel's centre).
+
+    Examples
+    --------
+    >>> f = Frame(path=Path("a.dng"), pixels=np.zeros((2, 2), np.float32), bit_depth=16,
+    ...           sha256="", raw=True, binning=2)
+    >>> frame_pixel_xy(f, [[0.5, 0.5], [3.5, 1.5]]).tolist()
+    [[0.0, 0.0], [1.5, 0.5]]
+    """
+    p = np.asarray(pixel_xy, dtype=np.float64)
+    b = float(frame.binning)
+    return (p - (b - 1.0) / 2.0) / b
 
 
 def _sniff(data: bytes) -> str | None:
@@ -408,7 +536,8 @@ def focal_length_px(frame: Frame, *, override_px: float | None = None) -> float 
     Returns
     -------
     float or None
-        Focal length, px; None when neither the override nor the EXIF fields give it.
+        Focal length, px of ``frame.pixels`` (a binned raw frame's: the sensor's divided by
+        ``frame.binning``); None when neither the override nor the EXIF fields give it.
 
     Raises
     ------
@@ -447,9 +576,9 @@ def focal_length_px(frame: Frame, *, override_px: float | None = None) -> float 
         if not (math.isfinite(override_px) and override_px > 0):
             raise ImageError(f"focal length must be a positive number of px, got {override_px}",
                              file=frame.path, field="focal_length_px")
-        return float(override_px)
+        return float(override_px) / frame.binning
     if frame.focal_length_mm is not None and frame.focal_plane_px_per_mm is not None:
-        return frame.focal_length_mm * frame.focal_plane_px_per_mm
+        return frame.focal_length_mm * frame.focal_plane_px_per_mm / frame.binning
     if frame.focal_length_35mm is not None:
         height_px, width_px = frame.shape
         return frame.focal_length_35mm / FULL_FRAME_DIAGONAL_MM * math.hypot(width_px, height_px)
@@ -636,3 +765,130 @@ def _write_tiff(path: Path, pixels: np.ndarray, ifd0: dict[int, Any],
         software=False,
         extratags=extratags,
     )
+
+
+#: CFAPattern colour codes of TIFF/EP and DNG: 0 red, 1 green, 2 blue [DNG]_.
+_CFA_CODES = {"R": 0, "G": 1, "B": 2}
+
+
+def write_dng(
+    path: str | PathLike[str],
+    mosaic: np.ndarray,
+    *,
+    cfa_pattern: str = "RGGB",
+    black_levels: float | Sequence[float] = 0.0,
+    white_level: float = 65535.0,
+    exposure_s: float | None = None,
+    f_number: float | None = None,
+    iso: float | None = None,
+    focal_length_mm: float | None = None,
+    focal_plane_px_per_mm: float | None = None,
+    make: str | None = None,
+    model: str | None = None,
+) -> None:
+    """Write a minimal, uncompressed Bayer DNG that LibRaw reads; overwrites ``path``.
+
+    Parameters
+    ----------
+    path : str or path-like
+        The file (``.dng``).
+    mosaic : (H, W) uint16
+        The sensor's data, one value per photosite; H, W even and at least 22 (LibRaw refuses
+        smaller images).
+    cfa_pattern : str, keyword-only
+        Colours of the 2 x 2 block, row-major: "RGGB", "BGGR", "GRBG" or "GBRG".
+    black_levels : float or 4 floats, keyword-only
+        Black level, DN: one for all, or one per photosite of the 2 x 2 block, row-major.
+    white_level : float, keyword-only
+        The value at which the sensor clips, DN.
+    exposure_s, f_number, iso, focal_length_mm, focal_plane_px_per_mm, make, model
+        As for :func:`write_image` (EXIF tags in IFD0, as TIFF/EP places them [TIFFEP]_).
+
+    Raises
+    ------
+    ImageError
+        A mosaic that is not 2-D uint16 with even sides of at least 22, or a bad pattern.
+
+    Notes
+    -----
+    Tags per the DNG specification [DNG]_: NewSubFileType 0, PhotometricInterpretation
+    32803 (CFA), CFARepeatPatternDim (2, 2), CFAPattern, CFAPlaneColor (0, 1, 2), CFALayout 1,
+    DNGVersion 1.4, UniqueCameraModel, BlackLevelRepeatDim (2, 2), BlackLevel, WhiteLevel, an
+    identity ColorMatrix1 and AsShotNeutral (1, 1, 1) (colour is not used by beamwall).
+
+    References
+    ----------
+    [DNG]_, [TIFFEP]_
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> cfa = np.full((24, 24), 1000, np.uint16)
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     write_dng(f"{tmp}/a.dng", cfa, black_levels=200, white_level=4095, iso=100)
+    ...     frame = read_frame(f"{tmp}/a.dng")
+    >>> frame.shape, frame.raw, frame.iso, round(float(frame.pixels[0, 0]), 6)
+    ((12, 12), True, 100.0, 0.205392)
+    """
+    path = Path(path)
+    mosaic = np.asarray(mosaic)
+    if (mosaic.ndim != 2 or mosaic.dtype != np.uint16 or min(mosaic.shape) < 22
+            or mosaic.shape[0] % 2 or mosaic.shape[1] % 2):
+        raise ImageError(f"mosaic must be (H, W) uint16 with even sides >= 22, got "
+                         f"{mosaic.shape} {mosaic.dtype}", file=path)
+    if len(cfa_pattern) != 4 or sorted(cfa_pattern) != ["B", "G", "G", "R"]:
+        raise ImageError(f"cfa_pattern must be a 2 x 2 Bayer block such as 'RGGB', got "
+                         f"{cfa_pattern!r}", file=path)
+    blacks = np.broadcast_to(np.asarray(black_levels, np.float64), (4,))
+    if not (np.all(np.isfinite(blacks)) and np.all(blacks >= 0) and white_level > blacks.max()
+            and white_level <= 65535):
+        raise ImageError(f"need 0 <= black levels < white level <= 65535, got {list(blacks)}, "
+                         f"{white_level}", file=path)
+    tags: list[tuple[int, Any, int, Any, bool]] = [
+        (50706, "B", 4, (1, 4, 0, 0), True),                          # DNGVersion
+        (50707, "B", 4, (1, 1, 0, 0), True),                          # DNGBackwardVersion
+        (50708, "s", 0, f"{make or 'Synthetic'} {model or 'camera'}", True),
+        (33421, "H", 2, (2, 2), True),                                # CFARepeatPatternDim
+        (33422, "B", 4, tuple(_CFA_CODES[c] for c in cfa_pattern), True),
+        (50710, "B", 3, (0, 1, 2), True),                             # CFAPlaneColor
+        (50711, "H", 1, 1, True),                                     # CFALayout
+        (50713, "H", 2, (2, 2), True),                                # BlackLevelRepeatDim
+        (50714, "2I", 4, tuple(v for b in blacks
+                               for v in (Fraction(float(b)).limit_denominator(1000).numerator,
+                                         Fraction(float(b)).limit_denominator(1000).denominator)),
+         True),                                                       # BlackLevel
+        (50717, "I", 1, int(round(white_level)), True),               # WhiteLevel
+        (50721, "2i", 9, (1, 1, 0, 1, 0, 1, 0, 1, 1, 1, 0, 1, 0, 1, 0, 1, 1, 1), True),
+        (50728, "2I", 3, (1, 1, 1, 1, 1, 1), True),                   # AsShotNeutral
+        (50778, "H", 1, 21, True),                                    # CalibrationIlluminant1
+    ]
+    values: dict[int, Any] = {}
+    if make is not None:
+        values[_TAG_MAKE] = make
+    if model is not None:
+        values[_TAG_MODEL] = model
+    if exposure_s is not None:
+        values[_TAG_EXPOSURE_TIME] = _rational(exposure_s, "exposure_s", path)
+    if f_number is not None:
+        values[_TAG_F_NUMBER] = _rational(f_number, "f_number", path)
+    if iso is not None:
+        values[_TAG_ISO] = _short(iso, "iso", path)
+    if focal_length_mm is not None:
+        values[_TAG_FOCAL_LENGTH] = _rational(focal_length_mm, "focal_length_mm", path)
+    if focal_plane_px_per_mm is not None:
+        per_cm = _rational(focal_plane_px_per_mm * 10.0, "focal_plane_px_per_mm", path)
+        values[_TAG_FOCAL_PLANE_X_RES] = per_cm
+        values[_TAG_FOCAL_PLANE_Y_RES] = per_cm
+        values[_TAG_FOCAL_PLANE_UNIT] = 3
+    for tag, value in sorted(values.items()):
+        if isinstance(value, str):
+            tags.append((tag, "s", 0, value, True))
+        elif isinstance(value, IFDRational):
+            tags.append((tag, 5, 1, (value.numerator, value.denominator), True))
+        else:
+            tags.append((tag, "H", 1, int(value), True))
+    try:
+        tifffile.imwrite(path, mosaic, photometric=32803, subfiletype=0, metadata=None,
+                         software=False, extratags=sorted(tags, key=lambda t: t[0]))
+    except OSError as exc:
+        raise ImageError(f"cannot write file: {exc.strerror or exc}", file=path) from None

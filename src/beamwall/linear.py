@@ -48,6 +48,7 @@ import math
 import numbers
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import cv2
 import numpy as np
@@ -405,12 +406,13 @@ def linear_luminance(
 
 
 def _luminance(image: np.ndarray, encoding: str, black: float, white: float,
-               weights: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """:func:`linear_luminance` on checked arguments."""
+               weights: np.ndarray, response: np.ndarray | None = None
+               ) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`linear_luminance` on checked arguments (``response``: an 8-bit code table)."""
     image = np.ascontiguousarray(image)   # OpenCV wants plain row-major strips
     height, width = image.shape[:2]
     rgb = image.ndim == 3
-    lut = _lut(image.dtype, encoding, black, white)
+    lut = response if response is not None else _lut(image.dtype, encoding, black, white)
     clip_code = _clip_code(encoding, black, white)
     integer = np.issubdtype(image.dtype, np.integer)
     # Highest code that is not clipped, for cv2.inRange on integer codes.
@@ -547,6 +549,7 @@ def normalise(
     white_level: float | None = None,
     focal_length_px: float | None = None,
     weights: tuple[float, float, float] = REC709_LUMINANCE_WEIGHTS,
+    profile: Any = None,
 ) -> Signal:
     """Compute a shot's exposure-normalised luminance from one image or a merged bracket.
 
@@ -569,11 +572,17 @@ def normalise(
         warning).
     weights : (float, float, float), optional
         Luminance weights of linear R, G, B; default Rec. 709's [BT709]_.
+    profile : beamwall.profile.CameraProfile, optional
+        The camera's profile. Its ``response`` (if any) decodes 8-bit ``"srgb"`` images in
+        place of the sRGB curve; its ``flat_field`` (if any) divides the merged value in place
+        of the cos^4 falloff (``focal_length_px`` is then not used). Its distortion is not
+        applied here (see :func:`beamwall.wall.resample_to_wall`).
 
     Returns
     -------
     Signal
-        ``value`` (H, W) float32: luminance (0..1 of white) / exposure factor / cos^4, NaN
+        ``value`` (H, W) float32: luminance (0..1 of white) / exposure factor / cos^4 (or the
+        profile's flat field), NaN
         where clipped in every image; ``saturated`` (H, W) bool: clipped in every image;
         ``warnings``.
 
@@ -637,13 +646,14 @@ def normalise(
         except InputError as exc:
             raise InputError(exc.message, field=f"exposures[{i}].{exc.field}") from None
     black, white = _levels(first.dtype, encoding, black_level, white_level)
+    response, flat, profile_warnings = _profile_parts(profile, first, encoding, exposures)
 
     luminances, clipped_masks, unusable, usable_good = [], [], [], []
     for i, image in enumerate(checked):
-        y, clipped = _luminance(image, encoding, black, white, w)
+        y, clipped = _luminance(image, encoding, black, white, w, response)
         if (dark_codes := darks[i]) is not None:
             dark = _same_as_first(dark_codes, first, f"darks[{i}]")
-            dark_y, dark_clipped = _luminance(dark, encoding, black, white, w)
+            dark_y, dark_clipped = _luminance(dark, encoding, black, white, w, response)
             y -= dark_y
             clipped |= dark_clipped   # a clipped dark leaves no value to subtract
         clipped_masks.append(clipped)
@@ -671,12 +681,45 @@ def normalise(
         value = np.full(first.shape[:2], np.nan, np.float32)
         np.divide(numerator, denominator, out=value, where=denominator > 0)
 
-    if focal_length_px is None:
+    warnings += profile_warnings
+    if flat is not None:
+        value /= flat
+    elif focal_length_px is None:
         warnings.append(_FALLOFF_WARNING)
     else:
         value /= natural_falloff(first.shape[:2], focal_length_px)
     saturated = np.logical_and.reduce(clipped_masks) if n_images > 1 else clipped_masks[0]
     return Signal(value=value, saturated=saturated, warnings=tuple(warnings))
+
+
+def _profile_parts(profile: Any, first: np.ndarray, encoding: str,
+                   exposures: Sequence[Exposure]
+                   ) -> tuple[np.ndarray | None, np.ndarray | None, list[str]]:
+    """The profile's 8-bit response table and flat-field gain for these images, if any."""
+    if profile is None:
+        return None, None, []
+    warnings: list[str] = []
+    response = None
+    curve = getattr(profile, "response", None)
+    if curve is not None and encoding == "srgb":
+        if first.dtype != np.uint8:
+            raise InputError("the profile's response curve is for 8-bit images, these are "
+                             f"{first.dtype}", field="profile")
+        response = np.asarray(curve.linear, dtype=np.float32)
+    flat = None
+    ff = getattr(profile, "flat_field", None)
+    if ff is not None:
+        height, width = first.shape[:2]
+        if tuple(ff.image_size_px) != (width, height):
+            raise InputError(f"the profile's flat field is for {ff.image_size_px[0]}x"
+                             f"{ff.image_size_px[1]} px images, these are {width}x{height}",
+                             field="profile")
+        flat = ff.gain((height, width))
+        n = exposures[0].f_number
+        if ff.f_number is not None and abs(n / ff.f_number - 1.0) > 0.05:
+            warnings.append(f"flat field taken at f/{ff.f_number:g}, this photo at f/{n:g}: "
+                            "vignetting changes with the aperture")
+    return response, flat, warnings
 
 
 def _same_as_first(image: np.typing.ArrayLike, first: np.ndarray, name: str) -> np.ndarray:

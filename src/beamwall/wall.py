@@ -632,6 +632,7 @@ def resample_to_wall(
     step_mm: float | None = None,
     bounds_mm: tuple[float, float, float, float] | None = None,
     max_cells: int = 4_000_000,
+    distortion: Any = None,
 ) -> WallGrid:
     """Resample an image and its clipping mask onto a regular wall grid.
 
@@ -651,6 +652,15 @@ def resample_to_wall(
         Wall region to cover, mm. Default: the bounding box of the photo's footprint.
     max_cells : int, optional
         Largest number of grid cells (default 4 000 000).
+    distortion : beamwall.profile.LensDistortion, optional
+        The lens's distortion. ``mapping`` then maps the wall to *ideal* (undistorted)
+        pixels (fit it to the session's points passed through
+        :func:`beamwall.profile.undistort_points`), and each cell is sampled where the
+        distorted photo shows it: cell -> wall mm -> ideal px (``wall_to_px``) -> photo px
+        (:func:`beamwall.profile.distort_points`), with ``cv2.remap`` instead of
+        ``cv2.warpPerspective``. ``footprint_mm`` is then the photo's border (32 points per
+        side) mapped to the wall, a polygon that need not be convex; ``inside`` is the cell
+        centre falling inside the photo. None (default): the pinhole path above.
 
     Returns
     -------
@@ -707,6 +717,8 @@ def resample_to_wall(
     h_px, w_px = v.shape
     foot = footprint_mm(mapping, v.shape)
     hmat = np.asarray(mapping.wall_to_px, dtype=np.float64)
+    if distortion is not None:
+        foot = _distorted_footprint_mm(mapping, v.shape, distortion)
 
     if bounds_mm is None:
         x_min, y_min = foot.min(axis=0)
@@ -751,22 +763,31 @@ def resample_to_wall(
     grid = np.array([[step, 0.0, x0], [0.0, -step, y0], [0.0, 0.0, 1.0]])
     m_dst_to_src = shrink @ hmat @ grid
     flags = cv2.INTER_LINEAR | cv2.WARP_INVERSE_MAP
-    vals = cv2.warpPerspective(src, m_dst_to_src, (nx, ny), flags=flags,
-                               borderMode=cv2.BORDER_REPLICATE)
-
-    # inside: the cell centre lies in the (convex) footprint, row by row.
     ys = y0 - step * np.arange(ny)
-    lo, hi = _row_intervals(foot, ys)
     xs = x0 + step * np.arange(nx)
-    inside = (xs[None, :] >= lo[:, None]) & (xs[None, :] <= hi[:, None])
+    if distortion is None:
+        vals = cv2.warpPerspective(src, m_dst_to_src, (nx, ny), flags=flags,
+                                   borderMode=cv2.BORDER_REPLICATE)
+        # inside: the cell centre lies in the (convex) footprint, row by row.
+        lo, hi = _row_intervals(foot, ys)
+        inside = (xs[None, :] >= lo[:, None]) & (xs[None, :] <= hi[:, None])
+    else:
+        map_x, map_y, inside = _distorted_maps(hmat, distortion, xs, ys, k, v.shape)
+        vals = cv2.remap(src, map_x, map_y, cv2.INTER_LINEAR,
+                         borderMode=cv2.BORDER_REPLICATE)
     if not inside.any():
         raise GeometryError("no grid cell lies inside the photo; check bounds_mm")
     np.copyto(vals, np.float32(np.nan), where=~(inside & np.isfinite(vals)))
 
     if sat.any():
         sat_s = _block_any(sat, k, (hs, ws)) if k > 1 else sat
-        sat_w = cv2.warpPerspective(sat_s.astype(np.uint8) * np.uint8(255), m_dst_to_src,
-                                    (nx, ny), flags=flags, borderMode=cv2.BORDER_REPLICATE)
+        if distortion is None:
+            sat_w = cv2.warpPerspective(sat_s.astype(np.uint8) * np.uint8(255), m_dst_to_src,
+                                        (nx, ny), flags=flags,
+                                        borderMode=cv2.BORDER_REPLICATE)
+        else:
+            sat_w = cv2.remap(sat_s.astype(np.uint8) * np.uint8(255), map_x, map_y,
+                              cv2.INTER_LINEAR, borderMode=cv2.BORDER_REPLICATE)
         sat_grid = (sat_w > 0) & inside
     else:
         sat_grid = np.zeros((ny, nx), dtype=bool)
@@ -782,6 +803,65 @@ def resample_to_wall(
         footprint_mm=foot,
         shrink_factor=k,
     )
+
+
+def _distorted_footprint_mm(mapping: WallMapping, shape: tuple[int, ...],
+                            distortion: Any) -> np.ndarray:
+    """The distorted photo's border (32 points a side) on the wall, mm, (128, 2)."""
+    from beamwall.profile import undistort_points
+
+    h_px, w_px = shape[:2]
+    t = np.linspace(0.0, 1.0, 32, endpoint=False)
+    x0, x1, y0, y1 = -0.5, w_px - 0.5, -0.5, h_px - 0.5
+    border = np.concatenate([
+        np.column_stack([x0 + t * (x1 - x0), np.full_like(t, y0)]),
+        np.column_stack([np.full_like(t, x1), y0 + t * (y1 - y0)]),
+        np.column_stack([x1 - t * (x1 - x0), np.full_like(t, y1)]),
+        np.column_stack([np.full_like(t, x0), y1 - t * (y1 - y0)]),
+    ])
+    ideal = undistort_points(distortion, border)
+    _, w = _apply(mapping.px_to_wall, ideal)
+    if np.any(w <= 0):
+        raise GeometryError("the wall's horizon lies in the photo: the camera looks too far "
+                            "along the wall")
+    foot = pixel_to_wall(mapping, ideal)
+    if not np.all(np.isfinite(foot)):
+        raise GeometryError("the photo's border does not map onto the wall")
+    return foot
+
+
+def _distorted_maps(hmat: np.ndarray, distortion: Any, xs: np.ndarray, ys: np.ndarray,
+                    k: int, shape: tuple[int, ...]
+                    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """cv2.remap maps (shrunk-image px) of grid cells seen through a distorting lens."""
+    from beamwall.profile import distort_points, undistort_points
+
+    h_px, w_px = shape[:2]
+    # A barrel model folds back beyond some radius: only ideal points within the photo's
+    # own largest ideal radius (its corners', with 5 % margin) can be in it.
+    kmat = np.asarray(distortion.camera_matrix, np.float64)
+    corners = undistort_points(distortion, [[-0.5, -0.5], [w_px - 0.5, -0.5],
+                                            [w_px - 0.5, h_px - 0.5], [-0.5, h_px - 0.5]])
+    r2_max = 1.05 * float(np.max(((corners[:, 0] - kmat[0, 2]) / kmat[0, 0]) ** 2
+                                 + ((corners[:, 1] - kmat[1, 2]) / kmat[1, 1]) ** 2))
+    map_x = np.empty((ys.size, xs.size), np.float32)
+    map_y = np.empty((ys.size, xs.size), np.float32)
+    inside = np.empty((ys.size, xs.size), bool)
+    rows = max(1, 262_144 // max(xs.size, 1))
+    for r0 in range(0, ys.size, rows):
+        yy = ys[r0:r0 + rows]
+        wall = np.stack(np.broadcast_arrays(xs[None, :], yy[:, None]), axis=-1)
+        ideal, w = _apply(hmat, wall)
+        ok = w > 0
+        ideal = np.where(ok[..., None], ideal, 0.0)
+        ok &= (((ideal[..., 0] - kmat[0, 2]) / kmat[0, 0]) ** 2
+               + ((ideal[..., 1] - kmat[1, 2]) / kmat[1, 1]) ** 2) <= r2_max
+        px = distort_points(distortion, ideal)
+        inside[r0:r0 + rows] = (ok & (px[..., 0] >= -0.5) & (px[..., 0] <= w_px - 0.5)
+                                & (px[..., 1] >= -0.5) & (px[..., 1] <= h_px - 0.5))
+        map_x[r0:r0 + rows] = (px[..., 0] + 0.5) / k - 0.5
+        map_y[r0:r0 + rows] = (px[..., 1] + 0.5) / k - 0.5
+    return map_x, map_y, inside
 
 
 # ---------------------------------------------------------------------------------------------
