@@ -45,7 +45,7 @@ MAX_STEP_NM: float = 10.0
 
 def read_table_csv(path: str | os.PathLike[str], *, columns: int,
                    names: tuple[str, ...]) -> tuple[np.ndarray, np.ndarray]:
-    """Read a wavelength table: ``wavelength_nm`` and ``columns`` value columns.
+    r"""Read a wavelength table: ``wavelength_nm`` and ``columns`` value columns.
 
     Parameters
     ----------
@@ -71,7 +71,7 @@ def read_table_csv(path: str | os.PathLike[str], *, columns: int,
     >>> import tempfile, pathlib
     >>> with tempfile.TemporaryDirectory() as tmp:
     ...     f = pathlib.Path(tmp, "s.csv")
-    ...     _ = f.write_text("wavelength_nm,value\\n400,1\\n400,2\\n")
+    ...     _ = f.write_text("wavelength_nm,value\n400,1\n400,2\n")
     ...     try:
     ...         read_table_csv(f, columns=1, names=("wavelength_nm", "value"))
     ...     except InputError as exc:
@@ -154,7 +154,7 @@ def _is_number(cell: str) -> bool:
 
 
 def read_spectrum_csv(path: str | os.PathLike[str]) -> Spectrum:
-    """Read a relative spectrum (``wavelength_nm,value``) onto the common grid.
+    r"""Read a relative spectrum (``wavelength_nm,value``) onto the common grid.
 
     Parameters
     ----------
@@ -175,7 +175,7 @@ def read_spectrum_csv(path: str | os.PathLike[str]) -> Spectrum:
     >>> import tempfile, pathlib
     >>> with tempfile.TemporaryDirectory() as tmp:
     ...     f = pathlib.Path(tmp, "lamp.csv")
-    ...     _ = f.write_text("wavelength_nm,value\\n" + "\\n".join(
+    ...     _ = f.write_text("wavelength_nm,value\n" + "\n".join(
     ...         f"{w},{w / 100}" for w in range(380, 781, 5)))
     ...     sd = read_spectrum_csv(f)
     >>> sd.description, float(sd.values[600 - 380])

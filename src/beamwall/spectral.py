@@ -232,8 +232,11 @@ def _shape() -> Any:
 
 
 def _on_grid(sd: Any) -> np.ndarray:
-    """A colour SpectralDistribution (or multi) on the grid: interpolated to 1 nm inside
-    its range (colour's default, Sprague for uniform data), zero outside."""
+    """Put a colour SpectralDistribution (or multi) on the grid.
+
+    Interpolated to 1 nm inside its range (colour's default, Sprague for uniform data),
+    zero outside.
+    """
     colour = _colour()
     lo, hi = float(sd.shape.start), float(sd.shape.end)
     start = max(lo, WAVELENGTHS_NM[0])
@@ -257,7 +260,7 @@ def _frozen(a: np.ndarray) -> np.ndarray:
 
 @functools.cache
 def photopic_efficiency() -> np.ndarray:
-    """The CIE 1924 photopic luminous efficiency V(lambda) on ``WAVELENGTHS_NM``.
+    """Return the CIE 1924 photopic luminous efficiency V(lambda) on ``WAVELENGTHS_NM``.
 
     Returns
     -------
@@ -303,7 +306,7 @@ def _check_cct(cct_k: float, field: str) -> float:
 
 
 def planckian_spectrum(cct_k: float) -> Spectrum:
-    """A Planckian radiator's relative spectrum at a colour temperature.
+    """Return a Planckian radiator's relative spectrum at a colour temperature.
 
     Parameters
     ----------
@@ -327,7 +330,8 @@ def planckian_spectrum(cct_k: float) -> Spectrum:
     Examples
     --------
     >>> sd = planckian_spectrum(2856)
-    >>> round(float(sd.values[0]), 3), sd.description   # CIE A at 380 nm: 9.795 (560 nm: 100)
+    >>> # CIE A at 380 nm: 9.795 against 100 at 560 nm [C15]_
+    >>> round(float(sd.values[0]), 3), sd.description
     (0.098, 'Planckian radiator at 2856 K')
     """
     t = _check_cct(cct_k, "cct_k")
@@ -337,7 +341,7 @@ def planckian_spectrum(cct_k: float) -> Spectrum:
 
 
 def cie_illuminant_names() -> tuple[str, ...]:
-    """Names of the CIE illuminants colour-science tabulates (``SDS_ILLUMINANTS``), sorted.
+    """Return the names of the CIE illuminants colour-science tabulates (``SDS_ILLUMINANTS``), sorted.
 
     Examples
     --------
@@ -349,7 +353,7 @@ def cie_illuminant_names() -> tuple[str, ...]:
 
 
 def cie_illuminant_spectrum(name: str) -> Spectrum:
-    """A CIE illuminant by name: "A", "D65", the LED illuminants "LED-B1" ... "LED-V2" ...
+    """Return a CIE illuminant by name: "A", "D65", the LED illuminants "LED-B1" ... "LED-V2" ...
 
     Parameters
     ----------
@@ -437,7 +441,7 @@ def _led_solution(cct_k: float) -> tuple[float, float, float, float]:
 
 
 def led_white_spectrum(cct_k: float) -> Spectrum:
-    """A phosphor-converted white LED's relative spectrum at a colour temperature (a model).
+    """Model a phosphor-converted white LED's relative spectrum at a colour temperature.
 
     Parameters
     ----------
@@ -523,7 +527,7 @@ def _resample(wl: np.ndarray, v: np.ndarray) -> np.ndarray:
 def spectrum_from_table(wavelength_nm: Sequence[float] | np.ndarray,
                         values: Sequence[float] | np.ndarray, *,
                         description: str = "tabulated spectrum") -> Spectrum:
-    """A spectrum from a table, resampled onto the grid.
+    """Build a spectrum from a table, resampled onto the grid.
 
     Parameters
     ----------
@@ -557,7 +561,7 @@ def spectrum_from_table(wavelength_nm: Sequence[float] | np.ndarray,
 
 def reference_spectrum(*, cct_k: float | None = None,
                        spectrum: Spectrum | None = None) -> Spectrum:
-    """The calibration reference's spectrum: a given one, a Planckian at ``cct_k``, or CIE A.
+    """Return the calibration reference's spectrum: a given one, a Planckian at ``cct_k``, or CIE A.
 
     Parameters
     ----------
@@ -590,7 +594,7 @@ def reference_spectrum(*, cct_k: float | None = None,
 
 def source_spectrum(*, cct_k: float | None = None, spectrum: Spectrum | None = None,
                     cie_illuminant: str | None = None) -> Spectrum | None:
-    """A shot's source spectrum from what the session gives, or None when nothing is given.
+    """Return a shot's source spectrum from the session's keys, or None when none is given.
 
     Parameters
     ----------
@@ -635,7 +639,7 @@ def camera_sensitivity_from_table(wavelength_nm: Sequence[float] | np.ndarray,
                                   rgb: Sequence[Sequence[float]] | np.ndarray, *,
                                   description: str = "tabulated camera sensitivity",
                                   ) -> CameraSensitivity:
-    """A camera's r, g, b sensitivities from a table, resampled onto the grid.
+    """Build a camera's r, g, b sensitivities from a table, resampled onto the grid.
 
     Parameters
     ----------
@@ -667,7 +671,7 @@ def camera_sensitivity_from_table(wavelength_nm: Sequence[float] | np.ndarray,
 
 @functools.cache
 def default_camera_sensitivity(*, processing: str = "srgb") -> CameraSensitivity:
-    """The generic camera: Nikon D5100 sensitivities measured at NPL [DARRODI]_.
+    """Return the generic camera: Nikon D5100 sensitivities measured at NPL [DARRODI]_.
 
     Parameters
     ----------
@@ -738,7 +742,7 @@ def _spd(sd: Spectrum | np.ndarray, what: str) -> np.ndarray:
 
 def luminance_sensitivity(camera: CameraSensitivity | np.ndarray,
                           weights: Sequence[float] = REC709_LUMINANCE_WEIGHTS) -> np.ndarray:
-    """The spectral sensitivity of the camera's luminance signal, s = sum_c w_c rgb_c.
+    """Return the spectral sensitivity of the luminance signal, s = sum_c w_c rgb_c.
 
     Parameters
     ----------
@@ -780,7 +784,7 @@ def spectral_mismatch_factor(camera_rgb: CameraSensitivity | np.ndarray,
                              weights: Sequence[float],
                              reference_sd: Spectrum | np.ndarray,
                              source_sd: Spectrum | np.ndarray) -> float:
-    """The spectral mismatch correction factor F* of a camera calibrated on one source.
+    """Compute the spectral mismatch correction factor F* of a camera calibrated on a source.
 
     Parameters
     ----------
@@ -819,7 +823,7 @@ def spectral_mismatch_factor(camera_rgb: CameraSensitivity | np.ndarray,
 
 
 def f1_prime(s: np.ndarray, *, reference: Spectrum | np.ndarray | None = None) -> float:
-    """The general V(lambda) mismatch index f1' of a relative spectral sensitivity.
+    """Compute the general V(lambda) mismatch index f1' of a relative spectral sensitivity.
 
     Parameters
     ----------
@@ -857,7 +861,7 @@ def f1_prime(s: np.ndarray, *, reference: Spectrum | np.ndarray | None = None) -
 def optimal_weights(camera_rgb: CameraSensitivity | np.ndarray, *,
                     nonnegative: bool = True,
                     reference: Spectrum | None = None) -> WeightFit:
-    """Luminance weights of r, g, b that bring the camera's luminance sensitivity closest to V.
+    """Fit luminance weights of r, g, b that bring the camera's luminance sensitivity closest to V.
 
     Parameters
     ----------
@@ -933,7 +937,7 @@ def shot_spectral_correction(*, camera_sensitivity: CameraSensitivity | None,
                              source_cct_k: float | None = None,
                              source_sd: Spectrum | None = None,
                              source_cie_illuminant: str | None = None) -> SpectralCorrection:
-    """A shot's spectral correction factor, from what the session says of its source.
+    """Compute a shot's spectral correction factor from what the session says of its source.
 
     Parameters
     ----------
@@ -961,7 +965,7 @@ def shot_spectral_correction(*, camera_sensitivity: CameraSensitivity | None,
     --------
     >>> c = shot_spectral_correction(camera_sensitivity=None, weights=(0.2126, 0.7152, 0.0722),
     ...                              reference=reference_spectrum())
-    >>> c.spectral_correction_factor, c.warnings[0][:28]
+    >>> c.spectral_correction_factor, c.warnings[0][:27]
     (1.0, 'spectral correction not app')
     """
     w = _check_weights(weights)
@@ -981,8 +985,8 @@ def shot_spectral_correction(*, camera_sensitivity: CameraSensitivity | None,
         notes.append("spectral correction uses a generic camera sensitivity (Nikon D5100, "
                      "sRGB processing): give [spectral] camera_sensitivity_csv for your "
                      "camera")
-    s = luminance_sensitivity(camera, w)
-    factor = spectral_mismatch_factor(camera, w, reference, source)
+    s = luminance_sensitivity(camera, weights_t)
+    factor = spectral_mismatch_factor(camera, weights_t, reference, source)
     return SpectralCorrection(
         spectral_correction_factor=factor,
         spectral_mismatch_f1_prime=f1_prime(s),
@@ -1000,7 +1004,7 @@ def shot_spectral_correction(*, camera_sensitivity: CameraSensitivity | None,
 
 
 def spectrum_to_dict(sd: Spectrum) -> dict[str, Any]:
-    """A JSON-ready mapping of a spectrum (for the calibration file's ``reference_spectrum``).
+    """Return a JSON-ready mapping of a spectrum (a calibration file's ``reference_spectrum``).
 
     Examples
     --------
