@@ -251,6 +251,7 @@ def test_shot_without_source_is_one_and_says_why():
     assert c.spectral_correction_factor == 1.0
     assert c.spectral_mismatch_f1_prime is None
     assert "no source_cct_k" in c.warnings[0]
+    assert c.spectral_correction_sigma == pytest.approx(0.05 / np.sqrt(3.0))
 
 
 def test_shot_with_source_and_default_camera_warns():
@@ -264,6 +265,9 @@ def test_shot_with_source_and_default_camera_warns():
     assert any("generic camera sensitivity" in w for w in c.warnings)
     assert c.source_description == "CIE illuminant LED-B3"
     assert 0.0 < c.spectral_mismatch_f1_prime < 1.0
+    # Generic camera: rectangular between no correction and twice it, u = |F - 1| / sqrt(3).
+    assert c.spectral_correction_sigma == pytest.approx(
+        abs(c.spectral_correction_factor - 1.0) / np.sqrt(3.0))
 
 
 def test_shot_with_two_sources_is_refused():

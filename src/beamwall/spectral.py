@@ -78,6 +78,8 @@ __all__ = [
     "MIN_TABLE_RANGE_NM",
     "LED_MODEL_CCT_RANGE_K",
     "DEFAULT_CAMERA",
+    "UNCORRECTED_SIGMA_FRACTION",
+    "TABLE_SIGMA_FRACTION",
     "Spectrum",
     "CameraSensitivity",
     "WeightFit",
@@ -116,6 +118,17 @@ LED_MODEL_CCT_RANGE_K: tuple[float, float] = (2200.0, 12000.0)
 
 #: The camera of :func:`default_camera_sensitivity`, as named in colour-science [DARRODI]_.
 DEFAULT_CAMERA: str = "Nikon 5100 (NPL)"
+
+#: Relative standard uncertainty of an uncorrected shot (no source colour given): a
+#: rectangular distribution of half-width 5 %, the size of the A-to-LED factor of an sRGB
+#: camera (see docs/spectral.md; common practice, no source).
+UNCORRECTED_SIGMA_FRACTION: float = 0.05 / math.sqrt(3.0)
+
+#: With the user's own sensitivity table, the factor's standard uncertainty as a fraction of
+#: |F* - 1| (the table's and the source spectrum's own errors; common practice, no source).
+#: With the generic camera it is |F* - 1| / sqrt(3): the truth anywhere between no correction
+#: and twice the correction.
+TABLE_SIGMA_FRACTION: float = 0.2
 
 # Phosphor-white LED model (see led_white_spectrum): blue pump and phosphor band.
 _LED_PUMP_PEAK_NM = 450.0
@@ -196,6 +209,9 @@ class SpectralCorrection:
     ----------
     spectral_correction_factor : float
         F*: multiply the shot's illuminance, intensity and flux by it; 1.0 when not computed.
+    spectral_correction_sigma : float
+        Its standard uncertainty (k=1, dimensionless), by the rules of
+        ``UNCORRECTED_SIGMA_FRACTION`` and ``TABLE_SIGMA_FRACTION``.
     spectral_mismatch_f1_prime : float or None
         f1' of the camera's luminance sensitivity with the weights used (fraction); None when
         not computed.
@@ -208,6 +224,7 @@ class SpectralCorrection:
     """
 
     spectral_correction_factor: float
+    spectral_correction_sigma: float
     spectral_mismatch_f1_prime: float | None
     luminance_weights: tuple[float, float, float]
     reference_description: str | None = None
@@ -341,7 +358,7 @@ def planckian_spectrum(cct_k: float) -> Spectrum:
 
 
 def cie_illuminant_names() -> tuple[str, ...]:
-    """Return the names of the CIE illuminants colour-science tabulates (``SDS_ILLUMINANTS``), sorted.
+    """Return the names of the CIE illuminants colour-science tabulates, sorted.
 
     Examples
     --------
@@ -974,7 +991,8 @@ def shot_spectral_correction(*, camera_sensitivity: CameraSensitivity | None,
                              cie_illuminant=source_cie_illuminant)
     if source is None:
         return SpectralCorrection(
-            spectral_correction_factor=1.0, spectral_mismatch_f1_prime=None,
+            spectral_correction_factor=1.0, spectral_correction_sigma=UNCORRECTED_SIGMA_FRACTION,
+            spectral_mismatch_f1_prime=None,
             luminance_weights=weights_t, reference_description=reference.description,
             warnings=("spectral correction not applied (factor 1.0): the shot gives no "
                       "source_cct_k, source_spectrum_csv or source_cie_illuminant",))
@@ -987,8 +1005,11 @@ def shot_spectral_correction(*, camera_sensitivity: CameraSensitivity | None,
                      "camera")
     s = luminance_sensitivity(camera, weights_t)
     factor = spectral_mismatch_factor(camera, weights_t, reference, source)
+    spread = abs(factor - 1.0)
+    sigma = spread / math.sqrt(3.0) if camera_sensitivity is None else TABLE_SIGMA_FRACTION * spread
     return SpectralCorrection(
         spectral_correction_factor=factor,
+        spectral_correction_sigma=sigma,
         spectral_mismatch_f1_prime=f1_prime(s),
         luminance_weights=weights_t,
         reference_description=reference.description,
