@@ -200,6 +200,7 @@ def to_grey_u8(pixels: ArrayLike) -> np.ndarray:
 def _detector() -> cv2.aruco.ArucoDetector:
     params = cv2.aruco.DetectorParameters()
     params.cornerRefinementMethod = cv2.aruco.CORNER_REFINE_NONE
+    params.minMarkerPerimeterRate = 0.01   # small markers in a large photo
     d = cv2.aruco.getPredefinedDictionary(cv2.aruco.DICT_4X4_50)
     return cv2.aruco.ArucoDetector(d, params)
 
