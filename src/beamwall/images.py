@@ -300,7 +300,7 @@ def _read_raw(data: bytes, path: Path) -> dict[str, Any]:
         reason = " ".join(str(exc).strip("b'\"").split()) or type(exc).__name__
         raise ImageError(f"LibRaw cannot read this raw file: {reason}", file=path) from None
     letters = "".join(desc[int(c)] if int(c) < len(desc) else "?" for c in colours.ravel())
-    if mosaic.ndim != 2 or sorted(letters) != ["B", "G", "G", "R"]:
+    if mosaic.ndim != 2 or letters not in ("RGGB", "BGGR", "GRBG", "GBRG"):
         raise ImageError(f"only 2 x 2 Bayer sensors (R, G, G, B) are read; this one's CFA "
                          f"block is {letters!r}", file=path)
     h, w = (mosaic.shape[0] // 2) * 2, (mosaic.shape[1] // 2) * 2
@@ -836,7 +836,7 @@ def write_dng(
             or mosaic.shape[0] % 2 or mosaic.shape[1] % 2):
         raise ImageError(f"mosaic must be (H, W) uint16 with even sides >= 22, got "
                          f"{mosaic.shape} {mosaic.dtype}", file=path)
-    if len(cfa_pattern) != 4 or sorted(cfa_pattern) != ["B", "G", "G", "R"]:
+    if cfa_pattern not in ("RGGB", "BGGR", "GRBG", "GBRG"):
         raise ImageError(f"cfa_pattern must be a 2 x 2 Bayer block such as 'RGGB', got "
                          f"{cfa_pattern!r}", file=path)
     blacks = np.broadcast_to(np.asarray(black_levels, np.float64), (4,))

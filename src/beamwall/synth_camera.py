@@ -172,7 +172,7 @@ def vignetting_gain(shape: tuple[int, int], coefficients: Sequence[float]) -> np
     Examples
     --------
     >>> vignetting_gain((1, 3), (-0.5,)).round(3).tolist()
-    [[0.6, 1.0, 0.6]]
+    [[0.8, 1.0, 0.8]]
     """
     h, w = shape
     half_diag = 0.5 * math.hypot(w, h)
