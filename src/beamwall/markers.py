@@ -95,7 +95,7 @@ MAX_SHIFT_PX: float = 1.5
 MIN_SHIFT_RESPONSE: float = 0.08
 
 #: Longest side of the images compared by :func:`camera_shift`, px (speed).
-SHIFT_MAX_SIDE_PX: int = 1600
+SHIFT_MAX_SIDE_PX: int = 1000
 
 
 @dataclass(frozen=True)
@@ -503,7 +503,7 @@ def camera_shift(reference: ArrayLike, other: ArrayLike) -> CameraShift:
     Notes
     -----
     Both photos are made display-like grey (:func:`to_grey_u8`), downsampled by an integer
-    factor to at most 1600 px on the long side, band-passed (difference of Gaussians,
+    factor to at most 1000 px on the long side, band-passed (difference of Gaussians,
     sigma 1 and 4 px) and squashed (tanh of the value over three standard deviations, so that
     edges count alike whatever their contrast), then ``cv2.phaseCorrelate`` with a Hanning
     window [Kuglin]_ gives the sub-pixel shift and a normalised response.
