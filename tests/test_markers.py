@@ -197,7 +197,6 @@ def _mapping_hook(spec, *, file):
 
 # The uncertainty propagation in the lead's pipeline warns when the mapping has no points
 # (a marker mapping); reported to the lead, filtered here until it handles markers.
-@pytest.mark.filterwarnings("ignore:Degrees of freedom <= 0:RuntimeWarning")
 def test_end_to_end_with_the_proposed_hook(tmp_path, monkeypatch):
     from beamwall import pipeline
 
@@ -205,7 +204,6 @@ def test_end_to_end_with_the_proposed_hook(tmp_path, monkeypatch):
     _angles_ok(tmp_path)
 
 
-@pytest.mark.filterwarnings("ignore:Degrees of freedom <= 0:RuntimeWarning")
-@pytest.mark.xfail(strict=False, reason="pipeline hook pending")
+
 def test_end_to_end_markers_only(tmp_path):
     _angles_ok(tmp_path)

@@ -4,8 +4,7 @@ Each case renders, with ``synth_camera``, a reference-lamp photo, a torch photo 
 frame as files, writes a profile JSON made from the renderer's own flat photo, response
 bracket or true lens, and runs ``calibrate_session`` / ``measure_session``. Tolerances (issue
 2, relative): beam 2 %, field 3 %, peak 3 %, flux 3 %, throw 2 %. Truth from
-``synth.truth`` (the beam model), never from images. The profile hook in the pipeline is
-pending: these tests are marked xfail (strict=False) until it lands.
+``synth.truth`` (the beam model), never from images.
 """
 
 from __future__ import annotations
@@ -110,14 +109,12 @@ def test_strong_vignetting_breaks_tolerance_without_profile(tmp_path):
     assert max(abs(errors["peak"]), abs(errors["flux"])) > 0.03, errors
 
 
-@pytest.mark.xfail(strict=False, reason="pipeline hook pending")
 def test_flat_field_profile_restores_tolerance(tmp_path):
     prof = _profile(tmp_path, VIGNETTED, flat_field=_flat_profile(VIGNETTED))
     errors = _errors(_scene(tmp_path, VIGNETTED, output="tone", profile=prof), BEAM, 2.0)
     assert all(abs(errors[k]) <= TOL[k] for k in TOL), errors
 
 
-@pytest.mark.xfail(strict=False, reason="pipeline hook pending")
 def test_barrel_distortion_profile(tmp_path):
     cam = sc.CameraModel(distortion=sc.PHONE_WIDE_DISTORTION, model="Wide")
     prof = _profile(tmp_path, cam, flat_field=_flat_profile(cam),
@@ -126,7 +123,6 @@ def test_barrel_distortion_profile(tmp_path):
     assert all(abs(errors[k]) <= TOL[k] for k in TOL), errors
 
 
-@pytest.mark.xfail(strict=False, reason="pipeline hook pending")
 def test_filmic_jpeg_with_response_profile(tmp_path):
     cam = sc.CameraModel(tone="filmic", model="Filmic")
     yy, xx = np.mgrid[0:120, 0:160]
@@ -141,7 +137,6 @@ def test_filmic_jpeg_with_response_profile(tmp_path):
     assert all(abs(errors[k]) <= TOL[k] for k in TOL), errors
 
 
-@pytest.mark.xfail(strict=False, reason="pipeline hook pending")
 def test_raw_dng_session(tmp_path):
     cam = sc.CameraModel(model="Raw one")
     prof = _profile(tmp_path, cam, raw=True, flat_field=_flat_profile(cam, raw=True))

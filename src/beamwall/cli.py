@@ -19,7 +19,10 @@ from typing import Any, TypeVar
 import click
 
 from beamwall import __version__
+from beamwall.cli_check import check
 from beamwall.cli_power import power
+from beamwall.cli_profile import profile
+from beamwall.cli_target import target
 from beamwall.errors import BeamwallError, InputError
 
 F = TypeVar("F", bound=Callable[..., Any])
@@ -290,6 +293,9 @@ def demo(outdir: Path | None, force: bool, seed: int) -> None:
 
 
 main.add_command(power)
+main.add_command(check)
+main.add_command(target)
+main.add_command(profile)
 
 
 if __name__ == "__main__":  # pragma: no cover

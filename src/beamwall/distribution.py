@@ -221,14 +221,18 @@ def coarsen(grid: WallGrid, factor: int) -> WallGrid:
     my, mx = ny // factor, nx // factor
     v = grid.values[: my * factor, : mx * factor]
     valid = np.isfinite(v)
-    vs = np.where(valid, v, 0.0).reshape(my, factor, mx, factor).sum(axis=(1, 3))
-    n = valid.reshape(my, factor, mx, factor).sum(axis=(1, 3))
+    # Area averaging by an integer factor is an exact block mean (OpenCV's INTER_AREA).
+    size = (mx, my)
+    vs = cv2.resize(np.where(valid, v, 0.0).astype(np.float32), size,
+                    interpolation=cv2.INTER_AREA)
+    n = cv2.resize(valid.astype(np.float32), size, interpolation=cv2.INTER_AREA)
     with np.errstate(invalid="ignore", divide="ignore"):
-        values = np.where(n > 0, vs / np.maximum(n, 1), np.nan).astype(np.float32)
+        values = np.where(n > 0, vs / np.maximum(n, 1e-12), np.nan).astype(np.float32)
 
     def block(m: np.ndarray, how: str) -> np.ndarray:
-        b = m[: my * factor, : mx * factor].reshape(my, factor, mx, factor)
-        return b.any(axis=(1, 3)) if how == "any" else b.all(axis=(1, 3))
+        mean = cv2.resize(m[: my * factor, : mx * factor].astype(np.float32), size,
+                          interpolation=cv2.INTER_AREA)
+        return mean > 0 if how == "any" else mean >= 1.0 - 1e-6
 
     half = 0.5 * (factor - 1) * grid.step_mm
     return WallGrid(
@@ -328,7 +332,7 @@ def outermost_crossing_deg(
 
     Parameters
     ----------
-    theta_deg : (n,) ascending polar angles.
+    theta_deg : (n,) or (n, m) ascending polar angles (one column per azimuth when 2-D).
     profiles : (n, m) values along theta for m azimuths. NaN marks the end of the measured
         range (outside the photo); +inf marks a clipped (known bright) sample.
     level : float
@@ -367,7 +371,12 @@ def outermost_crossing_deg(
     with np.errstate(invalid="ignore", divide="ignore"):
         frac = np.where(p0 > p1, (p0 - level) / (p0 - p1), 0.0)
     frac = np.clip(frac, 0.0, 1.0)
-    out[cols] = theta_deg[k] + frac * (theta_deg[k + 1] - theta_deg[k])
+    t = np.asarray(theta_deg, dtype=np.float64)
+    if t.ndim == 1:
+        t0, t1 = t[k], t[k + 1]
+    else:
+        t0, t1 = t[k, cols], t[k + 1, cols]
+    out[cols] = t0 + frac * (t1 - t0)
     return out
 
 

@@ -30,7 +30,7 @@ import numpy as np
 
 from beamwall import __version__
 from beamwall import images as img
-from beamwall import linear, wall
+from beamwall import linear, markers, wall
 from beamwall.camera_geometry import focal_length_from_homography
 from beamwall.calibrate import (
     Calibration,
@@ -42,6 +42,7 @@ from beamwall.compare import session_comparisons
 from beamwall.constants import REC709_LUMINANCE_WEIGHTS
 from beamwall.distribution import (
     find_axis,
+    grid_coordinates_mm,
     intensity_map,
     polar_distribution,
     smooth_nan,
@@ -56,8 +57,17 @@ from beamwall.figures import (
     saturated_fraction,
     throw_m,
 )
+from beamwall.profile_io import check_frame, load_profile, session_points_px
 from beamwall.provenance import sha256_file
 from beamwall.results import InputFile, SessionResult, ShotResult
+from beamwall.uncertainty import (
+    DEFAULT_POINTS_SIGMA_PX,
+    EXPOSURE_RATIO_SIGMA_FRACTION,
+    FLAT_FIELD_SIGMA_FRACTION,
+    UncertaintyInputs,
+    propagate,
+    sample_profiles,
+)
 from beamwall.session import (
     CalibrationSession,
     CameraSpec,
@@ -156,12 +166,15 @@ def _resolve_exposure(
 
 
 def _mapping(spec: WallSpec, *, file: str) -> wall.WallMapping:
+    """The wall mapping from the points, or from the markers in the setup photo."""
     if spec.points is None:
-        raise InputError(
-            "marker-based wall mapping (setup_image) is not available yet; give the wall "
-            "points instead",
-            file=file,
-            field="[wall] setup_image",
+        if spec.setup_image is None or spec.markers_mm is None or spec.marker_size_mm is None:
+            raise InputError("give points, or setup_image with marker_size_mm and markers_mm",
+                             file=file, field="[wall]")
+        frame = img.read_frame(spec.setup_image)
+        return markers.wall_mapping_from_markers(
+            frame.pixels, markers_mm=spec.markers_mm, marker_size_mm=spec.marker_size_mm,
+            source="[wall] setup_image",
         )
     pts = np.asarray(spec.points, dtype=np.float64)
     return wall.fit_homography(pts[:, :2], pts[:, 2:])
@@ -178,10 +191,13 @@ def load_shot_signal(
     file: str,
     weights: tuple[float, float, float] = REC709_LUMINANCE_WEIGHTS,
     fallback: dict[str, float | None] | None = None,
+    wall_points: Any = None,
 ) -> ShotSignal:
     """Read, normalise and map to the wall one shot (or the reference) of a session.
 
     ``fallback`` holds the calibration's f-number and ISO, assumed for photos that give none.
+    ``wall_points`` (the session's ``[wall] points``) are refitted in the frame's pixels when
+    a camera profile removes lens distortion or a raw file is binned.
     """
     notes: list[str] = []
     assumed: set[str] = set()
@@ -196,6 +212,15 @@ def load_shot_signal(
                 file=f.path,
             )
     encoding = camera.encoding or ("srgb" if first.bit_depth == 8 else "linear")
+    profile = load_profile(camera.profile) if camera.profile is not None else None
+    if profile is not None:
+        check_frame(profile, first, profile_file=camera.profile)
+    if (profile is not None or first.binning != 1) and wall_points is not None:
+        pts = np.asarray(wall_points, dtype=np.float64)
+        mapping = wall.fit_homography(session_points_px(pts[:, :2], first, profile),
+                                      pts[:, 2:])
+    if first.raw:
+        encoding = "linear"
     exposures = tuple(
         _resolve_exposure(f, i, camera=camera, own=own, where=where, file=file,
                           fallback=fallback or {}, warnings=notes, assumed=assumed)
@@ -210,7 +235,8 @@ def load_shot_signal(
     else:
         dark_arrays = [d.pixels for d in dark_frames]
     focal_px = img.focal_length_px(first, override_px=camera.focal_length_px)
-    if focal_px is None:
+    has_flat_field = profile is not None and profile.flat_field is not None
+    if focal_px is None and not has_flat_field:
         est = focal_length_from_homography(mapping.wall_to_px, first.shape)
         if est.focal_length_px is not None:
             focal_px = est.focal_length_px
@@ -221,19 +247,20 @@ def load_shot_signal(
             )
         else:
             notes.append(f"focal length unknown and not estimable ({est.reason})")
-    white = camera.white_level
     signal = linear.normalise(
         [f.pixels for f in frames],
         exposures,
         darks=dark_arrays,
         encoding=encoding,
-        black_level=camera.black_level or 0.0,
-        white_level=white,
+        black_level=0.0 if first.raw else (camera.black_level or 0.0),
+        white_level=None if first.raw else camera.white_level,
         focal_length_px=focal_px,
         weights=weights,
+        profile=profile,
     )
     grid = wall.resample_to_wall(signal.value, signal.saturated, mapping,
-                                 max_cells=MAX_WALL_CELLS)
+                                 max_cells=MAX_WALL_CELLS,
+                                 distortion=None if profile is None else profile.distortion)
     fp = grid.footprint_mm
     # Photo pixels per grid cell (area), for the statistics of averages over the wall.
     wall_area_mm2 = 0.5 * abs(
@@ -243,6 +270,9 @@ def load_shot_signal(
     inputs = tuple(InputFile("image", str(f.path), f.sha256) for f in frames) + tuple(
         InputFile("dark", str(f.path), f.sha256) for f in dark_frames
     )
+    if camera.profile is not None:
+        inputs += (InputFile("camera profile", str(camera.profile),
+                             sha256_file(camera.profile)),)
     return ShotSignal(
         grid=grid,
         first_frame=first,
@@ -351,6 +381,17 @@ def analyse_shot(
     if alpha <= 0:
         warnings.append("the beam axis is at the photo's edge: no flux cone fits in the photo")
 
+    # What the Monte Carlo needs, in signal units before the calibration constant.
+    x_mm, y_mm = grid_coordinates_mm(grid)
+    d_mm = distance_m * 1000.0
+    cos3 = (d_mm / np.sqrt(d_mm**2 + (x_mm - axis[0]) ** 2 + (y_mm - axis[1]) ** 2)) ** 3
+    smoothed_e = (smoothed[0] * cos3 / (distance_m**2 * k)).astype(np.float32)
+    profiles = sample_profiles(
+        grid, smoothed_e, axis_mm=axis, distance_m=distance_m, dist=dist, peak_intensity=peak,
+        flux_half_angle_deg=alpha if alpha > 0 else None, sigma_cells=smoothed[1],
+        source_pixels_per_cell=sig.source_pixels_per_cell,
+    )
+
     calibrated = calibration is not None
     cal_rel = calibration.relative_sigma if calibration is not None else 0.0
     d_rel = distance_sigma_m / distance_m
@@ -394,6 +435,7 @@ def analyse_shot(
         distribution=dist,
         intensity_map=imap,
         inputs=sig.inputs,
+        mc_profiles=profiles,
     )
 
 
@@ -414,6 +456,106 @@ def _with_relative(shots: list[ShotResult]) -> list[ShotResult]:
             if base > 0:
                 rel_flux = float(s.cone_flux[n - 1]) / base
         out.append(replace(s, relative_peak_intensity=float(rel_peak), relative_flux=rel_flux))
+    return out
+
+
+#: Floor of the pixel uncertainty of detected marker corners (sub-pixel refinement; common
+#: practice, no source).
+MARKER_CORNER_SIGMA_PX: float = 0.2
+
+
+def _mapping_points(
+    spec: WallSpec, mapping: wall.WallMapping
+) -> tuple[np.ndarray, np.ndarray, float]:
+    """The points the mapping rests on (px, mm) and their pixel uncertainty.
+
+    Given points: ``points_sigma_px``, else the fit's residuals (more than 4 points), else a
+    default for hand-placed points. Markers: every listed marker's corners, placed where the
+    mapping puts them, with the fit's RMS error (in px) or a floor for refined corners.
+    """
+    if spec.points is not None:
+        pts = np.asarray(spec.points, dtype=np.float64)
+        px, mm = pts[:, :2], pts[:, 2:]
+        if spec.points_sigma_px is not None:
+            return px, mm, float(spec.points_sigma_px)
+        n = len(pts)
+        if n > 4:
+            # Residuals in pixels of an 8-parameter fit to 2n coordinates.
+            back = wall.wall_to_pixel(mapping, mm)
+            ss = float(np.sum((back - px) ** 2))
+            return px, mm, float(np.sqrt(ss / (2 * n - 8)))
+        return px, mm, DEFAULT_POINTS_SIGMA_PX
+    centres = spec.markers_mm or {}
+    size = spec.marker_size_mm or 0.0
+    mm = np.concatenate([markers.marker_corners_mm(c, size).reshape(-1, 2)
+                         for c in centres.values()]) if centres else np.zeros((0, 2))
+    px = wall.wall_to_pixel(mapping, mm)
+    ok = np.all(np.isfinite(px), axis=1)
+    mm, px = mm[ok], px[ok]
+    scale = float(np.median(wall.mm_per_px(mapping, px))) if len(px) else 1.0
+    sigma = spec.points_sigma_px
+    if sigma is None:
+        sigma = max(MARKER_CORNER_SIGMA_PX, mapping.rms_error_mm / max(scale, 1e-9))
+    return px, mm, float(sigma)
+
+
+def _with_uncertainty(
+    shots: list[ShotResult],
+    session: Session,
+    mapping: wall.WallMapping,
+    calibration: Calibration | None,
+    exposures: list[linear.Exposure],
+) -> list[ShotResult]:
+    """Monte Carlo standard uncertainties for every figure (see beamwall.uncertainty)."""
+    profiles = [s.mc_profiles for s in shots]
+    if not profiles or any(p is None for p in profiles):
+        return shots
+    cal_rel: dict[str, float] = {}
+    ref_d = ref_d_sigma = None
+    if calibration is not None:
+        for key, v in calibration.budget.items():
+            if key == "reference_distance":
+                continue
+            cal_rel["calibration_pixel_noise" if key == "pixel_noise" else key] = float(v)
+        ref_d = calibration.reference.get("distance_m")
+        ref_d_sigma = calibration.reference.get("distance_sigma_m") or 0.0
+        ref_exp = calibration.exposure
+        differs = any(
+            abs(e.exposure_s - (ref_exp.get("exposure_s") or e.exposure_s)) > 1e-12
+            or abs(e.iso - (ref_exp.get("iso") or e.iso)) > 1e-9
+            for e in exposures
+        )
+        if differs:
+            cal_rel["exposure_ratio"] = EXPOSURE_RATIO_SIGMA_FRACTION
+        cal_rel["flat_field"] = FLAT_FIELD_SIGMA_FRACTION
+    pts_px, pts_mm, sigma_px = _mapping_points(session.wall, mapping)
+    if len(pts_px) < 4:
+        pts_px = pts_mm = None
+    inputs = UncertaintyInputs(
+        lux_per_signal=calibration.lux_per_signal if calibration is not None else 1.0,
+        distance_sigma_m=session.rig.distance_sigma_m or 0.0,
+        calibration_rel=cal_rel,
+        reference_distance_m=ref_d,
+        reference_distance_sigma_m=float(ref_d_sigma or 0.0),
+        points_px=pts_px,
+        points_mm=pts_mm,
+        points_sigma_px=sigma_px,
+        points_sigma_mm=session.wall.points_sigma_mm or 0.0,
+    )
+    mc = propagate(profiles, inputs, calibrated=calibration is not None)
+    out = []
+    for s, u in zip(shots, mc):
+        sig = u.sigma
+        out.append(replace(
+            s,
+            beam_angle_sigma_deg=sig.get("beam_angle_deg") if s.beam_angle_deg else None,
+            field_angle_sigma_deg=sig.get("field_angle_deg") if s.field_angle_deg else None,
+            peak_intensity_sigma_cd=sig.get("peak_intensity_cd") if s.peak_intensity_cd else None,
+            throw_sigma_m=sig.get("throw_m") if s.throw_m else None,
+            flux_sigma_lm=sig.get("flux_lm") if s.flux_lm else None,
+            uncertainty_budget=u.budget,
+            interval95={k: (None if v is None else list(v)) for k, v in u.interval95.items()},
+        ))
     return out
 
 
@@ -475,6 +617,7 @@ def measure_session(
     total = len(session.shots)
     results: list[ShotResult] = []
     inputs: list[InputFile] = [InputFile("session", file, sha256_file(session.path))]
+    exposures_seen: list[linear.Exposure] = []
     for i, shot in enumerate(session.shots):
         progress(shot.label, i, total)
         where = shot_field(shot.number, shot.label)
@@ -482,6 +625,7 @@ def measure_session(
             shot.images, shot.darks, camera=session.camera, own=_shot_own(shot),
             mapping=mapping, where=where, file=file,
             fallback=dict(calibration.exposure) if calibration is not None else None,
+            wall_points=session.wall.points,
         )
         extra: list[str] = []
         if calibration is not None:
@@ -496,8 +640,10 @@ def measure_session(
             res = replace(res, warnings=tuple(extra) + res.warnings)
         results.append(res)
         inputs.extend(sig.inputs)
+        exposures_seen.extend(sig.exposures)
     progress("done", total, total)
     results = _with_relative(results)
+    results = _with_uncertainty(results, session, mapping, calibration, exposures_seen)
     comparison = session_comparisons(
         results, session.shots, session_electrical_spec=session.electrical, source=file
     )
@@ -534,7 +680,7 @@ def measure_session(
         modes=tuple(cmp.get("modes") or ()),
         electrical=cmp.get("electrical"),
         claims=tuple(cmp.get("claims") or ()),
-        warnings=tuple(comparison.warnings),
+        warnings=tuple(mapping.warnings) + tuple(comparison.warnings),
         inputs=tuple(inputs),
         created_utc=_utc_now(),
         settings={
@@ -559,7 +705,7 @@ def calibrate_session(
            "f_number": ref.f_number, "iso": ref.iso}
     sig = load_shot_signal(
         ref.images, ref.darks, camera=cs.camera, own=own, mapping=mapping,
-        where="[reference]", file=file,
+        where="[reference]", file=file, wall_points=cs.wall.points,
     )
     fit: ReferenceFit
     if ref.intensity_cd is not None:

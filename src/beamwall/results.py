@@ -82,12 +82,15 @@ class ShotResult:
     distance_m: float | None = None
     claims: tuple[dict[str, Any], ...] = ()
     electrical: dict[str, Any] | None = None
+    uncertainty_budget: dict[str, dict[str, float]] | None = None  # figure -> input -> u (k=1)
+    interval95: dict[str, Any] | None = None     # Monte Carlo 95 % intervals per figure
     # For the report and later comparisons (not written to results.json) -----------------
     cone_half_angle_deg: np.ndarray | None = field(default=None, repr=False)  # (n,) 0.1 deg steps
     cone_flux: np.ndarray | None = field(default=None, repr=False)  # (n,) lm (or relative)
     distribution: Distribution | None = field(default=None, repr=False)
     intensity_map: WallGrid | None = field(default=None, repr=False)  # I on the wall, cd/rel.
     inputs: tuple[InputFile, ...] = ()
+    mc_profiles: Any = field(default=None, repr=False)   # uncertainty.BeamProfiles
 
 
 @dataclass(frozen=True)

@@ -178,6 +178,7 @@ class WallSpec:
     marker_size_mm: float | None = None
     markers_mm: dict[int, tuple[float, float]] | None = None
     points_sigma_px: float | None = None
+    points_sigma_mm: float | None = None         # extension: tape uncertainty of wall positions
     axis_mm: tuple[float, float] | None = None
 
 
@@ -712,7 +713,8 @@ class _Reader:
 
 _RIG_KEYS = ("distance_m", "distance_sigma_m")
 _WALL_KEYS = (
-    "points", "setup_image", "marker_size_mm", "markers_mm", "points_sigma_px", "axis_mm",
+    "points", "setup_image", "marker_size_mm", "markers_mm", "points_sigma_px",
+    "points_sigma_mm", "axis_mm",
 )
 _CAMERA_KEYS = (
     "exposure_s", "f_number", "iso", "encoding", "black_level", "white_level",
@@ -824,6 +826,7 @@ def _read_wall(r: _Reader, doc: Mapping[str, Any], *, axis_allowed: bool) -> Wal
             "markers_mm",
         )
     sigma = r.number(table, "points_sigma_px", "[wall]", non_negative=True)
+    sigma_mm = r.number(table, "points_sigma_mm", "[wall]", non_negative=True)
     axis = r.pair_mm(table, "axis_mm", "[wall]")
     if has_points:
         for key in ("marker_size_mm", "markers_mm"):
@@ -832,6 +835,7 @@ def _read_wall(r: _Reader, doc: Mapping[str, Any], *, axis_allowed: bool) -> Wal
         return WallSpec(
             points=_read_points(r, table),  # type: ignore[arg-type]
             points_sigma_px=sigma,
+            points_sigma_mm=sigma_mm,
             axis_mm=axis,
         )
     setup = r.file(table, "setup_image", "[wall]", required=True)
@@ -844,6 +848,7 @@ def _read_wall(r: _Reader, doc: Mapping[str, Any], *, axis_allowed: bool) -> Wal
         marker_size_mm=size,
         markers_mm=_read_markers(r, table),
         points_sigma_px=sigma,
+        points_sigma_mm=sigma_mm,
         axis_mm=axis,
     )
 

@@ -39,6 +39,7 @@ SHOT_KEYS: tuple[str, ...] = (
     "beam_angle_min_deg", "beam_angle_max_deg",
     "field_angle_min_deg", "field_angle_max_deg",
     "distance_m",
+    "uncertainty_budget",
 )
 
 
