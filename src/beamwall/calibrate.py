@@ -83,6 +83,7 @@ class Calibration:
     created_utc: str | None = None
     beamwall_version: str | None = None
     inputs: tuple[dict[str, str], ...] = ()
+    reference_spectrum: dict[str, Any] | None = None   # spectral.spectrum_to_dict of the ref.
 
     @property
     def relative_sigma(self) -> float:
@@ -148,6 +149,7 @@ def calibration_from_dict(data: dict[str, Any], *, file: str) -> Calibration:
         created_utc=data.get("created_utc"),
         beamwall_version=data.get("beamwall_version"),
         inputs=tuple(data.get("inputs") or ()),
+        reference_spectrum=data.get("reference_spectrum"),
     )
 
 

@@ -57,6 +57,7 @@ from beamwall.figures import (
     saturated_fraction,
     throw_m,
 )
+from beamwall import spectra_io, spectral
 from beamwall.profile_io import check_frame, load_profile, session_points_px
 from beamwall.provenance import sha256_file
 from beamwall.results import InputFile, SessionResult, ShotResult
@@ -286,6 +287,61 @@ def load_shot_signal(
     )
 
 
+class _SpectralContext:
+    """The session's spectra, read once, and each shot's correction from them."""
+
+    def __init__(self, session: Session, calibration: Calibration | None,
+                 calibration_file: str | None) -> None:
+        self.enabled = calibration is not None
+        self.session = session
+        self.camera = None
+        self.reference = None
+        if not self.enabled:
+            return
+        if calibration is not None and calibration.reference_spectrum:
+            self.reference = spectral.spectrum_from_dict(calibration.reference_spectrum,
+                                                         file=calibration_file)
+        if session.camera_sensitivity_csv is not None:
+            self.camera = spectra_io.read_camera_sensitivity_csv(
+                session.camera_sensitivity_csv)
+        self.weights = (calibration.luminance_weights if calibration is not None
+                        else REC709_LUMINANCE_WEIGHTS)
+
+    def correction(self, shot: ShotSpec, *, file: str) -> spectral.SpectralCorrection | None:
+        """F* for this shot; None when there is no calibration or nothing spectral is given.
+
+        With no spectral information at all (no source colour, no camera sensitivity), the
+        factor stays 1.0 and its uncertainty is left out of the budget (a warning says so).
+        """
+        if not self.enabled:
+            return None
+        has_source = (shot.source_cct_k is not None or shot.source_spectrum_csv is not None
+                      or shot.source_cie_illuminant is not None)
+        if not has_source and self.camera is None:
+            return spectral.SpectralCorrection(
+                spectral_correction_factor=1.0, spectral_correction_sigma=0.0,
+                spectral_mismatch_f1_prime=None, luminance_weights=tuple(self.weights),
+                warnings=("spectral mismatch not assessed (no source_cct_k, "
+                          "source_spectrum_csv or source_cie_illuminant): factor 1.0, "
+                          "left out of the uncertainty",),
+            )
+        reference = self.reference if self.reference is not None \
+            else spectral.reference_spectrum()
+        try:
+            return spectral.shot_spectral_correction(
+                camera_sensitivity=self.camera, weights=self.weights, reference=reference,
+                source_cct_k=shot.source_cct_k,
+                source_sd=(spectra_io.read_spectrum_csv(shot.source_spectrum_csv)
+                           if shot.source_spectrum_csv else None),
+                source_cie_illuminant=shot.source_cie_illuminant,
+            )
+        except InputError as exc:
+            if exc.file is not None:
+                raise
+            raise InputError(exc.message, file=file,
+                             field=shot_field(shot.number, shot.label, exc.field)) from None
+
+
 def _shot_own(shot: ShotSpec) -> dict[str, Any]:
     return {
         "exposures_s": shot.exposures_s,
@@ -321,10 +377,19 @@ def analyse_shot(
     calibration: Calibration | None,
     file: str,
     where: str,
+    spectral_correction: spectral.SpectralCorrection | None = None,
 ) -> ShotResult:
-    """Figures of one shot from its signal on the wall."""
+    """Figures of one shot from its signal on the wall.
+
+    ``spectral_correction`` multiplies the calibrated illuminance (hence intensity and flux)
+    by its factor F* for the spectral mismatch between the reference and this source.
+    """
     warnings: list[str] = list(sig.warnings)
-    k = calibration.lux_per_signal if calibration is not None else 1.0
+    f_spec = 1.0
+    if spectral_correction is not None and calibration is not None:
+        f_spec = spectral_correction.spectral_correction_factor
+        warnings.extend(spectral_correction.warnings)
+    k = calibration.lux_per_signal * f_spec if calibration is not None else 1.0
     grid = sig.grid
     illum = replace(grid, values=(grid.values * np.float32(k)).astype(np.float32))
     if axis_mm is None:
@@ -390,6 +455,10 @@ def analyse_shot(
         grid, smoothed_e, axis_mm=axis, distance_m=distance_m, dist=dist, peak_intensity=peak,
         flux_half_angle_deg=alpha if alpha > 0 else None, sigma_cells=smoothed[1],
         source_pixels_per_cell=sig.source_pixels_per_cell,
+        k_sigma_fraction=(spectral_correction.spectral_correction_sigma / f_spec
+                          if spectral_correction is not None and calibration is not None
+                          else 0.0),
+        k_factor=f_spec,
     )
 
     calibrated = calibration is not None
@@ -436,6 +505,13 @@ def analyse_shot(
         intensity_map=imap,
         inputs=sig.inputs,
         mc_profiles=profiles,
+        spectral_correction_factor=f_spec,
+        spectral_mismatch_f1_prime=(
+            spectral_correction.spectral_mismatch_f1_prime
+            if spectral_correction is not None else None),
+        spectral_correction_sigma=(
+            spectral_correction.spectral_correction_sigma
+            if spectral_correction is not None and calibration is not None else None),
     )
 
 
@@ -618,6 +694,7 @@ def measure_session(
     results: list[ShotResult] = []
     inputs: list[InputFile] = [InputFile("session", file, sha256_file(session.path))]
     exposures_seen: list[linear.Exposure] = []
+    spectral_ctx = _SpectralContext(session, calibration, calibration_file)
     for i, shot in enumerate(session.shots):
         progress(shot.label, i, total)
         where = shot_field(shot.number, shot.label)
@@ -630,11 +707,13 @@ def measure_session(
         extra: list[str] = []
         if calibration is not None:
             extra = check_calibration(calibration, sig, force=force, file=calibration_file or "")
+        corr = spectral_ctx.correction(shot, file=file)
         res = analyse_shot(
             sig, label=shot.label, zoom=shot.zoom, mode=shot.mode,
             distance_m=session.rig.distance_m,
             distance_sigma_m=session.rig.distance_sigma_m or 0.0,
             axis_mm=session.wall.axis_mm, calibration=calibration, file=file, where=where,
+            spectral_correction=corr,
         )
         if extra:
             res = replace(res, warnings=tuple(extra) + res.warnings)
@@ -739,6 +818,11 @@ def calibrate_session(
         raise InputError("give intensity_cd with distance_m and axis_mm, or illuminance_lx "
                          "with at_mm", file=file, field="[reference]")
     progress("reference", 1, 1)
+    ref_sd = spectral.reference_spectrum(
+        cct_k=ref.cct_k,
+        spectrum=None if ref.spectrum_csv is None
+        else spectra_io.read_spectrum_csv(ref.spectrum_csv),
+    )
     f = sig.first_frame
     e0 = sig.exposures[0]
     warnings = list(sig.warnings)
@@ -771,4 +855,5 @@ def calibrate_session(
         created_utc=_utc_now(),
         beamwall_version=__version__,
         inputs=inputs,
+        reference_spectrum=spectral.spectrum_to_dict(ref_sd),
     )

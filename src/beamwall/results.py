@@ -72,6 +72,8 @@ class ShotResult:
     throw_sigma_m: float | None = None
     flux_sigma_lm: float | None = None
     spectral_correction_factor: float = 1.0
+    spectral_correction_sigma: float | None = None
+    spectral_mismatch_f1_prime: float | None = None
     luminance_weights: tuple[float, float, float] = (0.2126, 0.7152, 0.0722)
     # Beyond the contract ---------------------------------------------------------------
     beam_angle_min_deg: float | None = None      # narrowest / widest azimuth, full angles

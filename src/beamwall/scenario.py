@@ -147,8 +147,8 @@ def write_demo(
             f"zoom = {_toml_str(shot.zoom)}",
             f"mode = {_toml_str(shot.mode)}",
         ]
-        if shot.source_cct_k is not None:
-            lines.append(f"source_cct_k = {shot.source_cct_k}")
+        # No source_cct_k: the renderer works in RGB with colours of equal luminance, so it
+        # simulates no spectral mismatch for the correction to remove.
         for key in ("claimed_lm", "claimed_cd", "claimed_throw_m"):
             v = getattr(shot, key)
             if v is not None:

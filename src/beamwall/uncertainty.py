@@ -201,6 +201,8 @@ class BeamProfiles:
     field_noise_deg: float
     peak_noise_fraction: float          # noise of the peak, relative
     cell_mm: float = 0.0                # wall grid step: the crossings' resolution
+    k_sigma_fraction: float = 0.0       # this shot's own relative uncertainty of K (spectral)
+    k_factor: float = 1.0               # this shot's own factor on K (spectral correction)
 
 
 def _profile_window(
@@ -267,6 +269,8 @@ def sample_profiles(
     source_pixels_per_cell: float,
     n_phi: int = 120,
     n_r: int = 48,
+    k_sigma_fraction: float = 0.0,
+    k_factor: float = 1.0,
 ) -> BeamProfiles:
     """Sample once what the Monte Carlo recomputes the figures from.
 
@@ -346,6 +350,8 @@ def sample_profiles(
         beam_noise_deg=beam_noise, field_noise_deg=field_noise,
         peak_noise_fraction=rel_peak_noise,
         cell_mm=float(illuminance.step_mm),
+        k_sigma_fraction=float(k_sigma_fraction),
+        k_factor=float(k_factor),
     )
 
 
@@ -508,6 +514,8 @@ def propagate(
     d0 = profiles[0].distance_m if profiles else 1.0
     sources = ["distance"] + sorted(inputs.calibration_rel) + [
         "reference_distance", "wall_mapping", "pixel_noise", "resolution"]
+    if any(p.k_sigma_fraction > 0 for p in profiles):
+        sources.append("spectral")
 
     def draw(rng: np.random.Generator, active: set[str], z_fixed: float | None = None
              ) -> tuple[float, float, Any, Any]:
@@ -530,7 +538,9 @@ def propagate(
                 g = _trial_mapping(inputs, rng, nominal_h)
                 if g is not None:
                     break
-        noise = np.zeros((len(profiles), 4))
+        noise = np.zeros((len(profiles), 5))
+        if "spectral" in active:
+            noise[:, 4] = (rng.standard_normal(len(profiles)) if z_fixed is None else z_fixed)
         if "pixel_noise" in active:
             noise[:, :3] = (rng.standard_normal((len(profiles), 3)) if z_fixed is None
                             else z_fixed)
@@ -546,7 +556,9 @@ def propagate(
     def evaluate(d: float, k: float, g: Any, noise: np.ndarray) -> np.ndarray:
         vals = np.full((len(profiles), len(FIGURES)), np.nan)
         for i, prof in enumerate(profiles):
-            f = _figures_for(prof, k=k, distance_m=d, g=g, peak_z=noise[i, 0],
+            f = _figures_for(prof, k=k * prof.k_factor * (1.0 + prof.k_sigma_fraction
+                                                          * noise[i, 4]),
+                             distance_m=d, g=g, peak_z=noise[i, 0],
                              beam_z=noise[i, 1], field_z=noise[i, 2], calibrated=calibrated,
                              shift_cells=noise[i, 3])
             vals[i] = [np.nan if f[name] is None else f[name] for name in FIGURES]
