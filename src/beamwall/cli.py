@@ -189,7 +189,8 @@ def calibrate(calibration_toml: Path, output: Path, force: bool) -> None:
 
 
 def run_measure(
-    session_toml: Path, outdir: Path, *, calibration: Path | None, force: bool
+    session_toml: Path, outdir: Path, *, calibration: Path | None, force: bool,
+    uncertainty: bool = True,
 ) -> Any:
     """Measure a session and write its outputs into ``outdir``; return the SessionResult."""
     from beamwall.pipeline import measure_session
@@ -205,6 +206,7 @@ def run_measure(
         result = measure_session(
             session, cal, force=force, progress=progress,
             calibration_file=None if cal_path is None else str(cal_path),
+            uncertainty=uncertainty,
         )
     outdir.mkdir(parents=True, exist_ok=True)
     _write_extras(result, outdir)
@@ -246,10 +248,14 @@ def _print_result(result: Any, outdir: Path) -> None:
               default=None, help="Calibration JSON (overrides the session's [calibration]).")
 @click.option("--force", is_flag=True,
               help="Overwrite existing outputs; apply a calibration made for another camera.")
+@click.option("--no-uncertainty", is_flag=True,
+              help="Skip the Monte Carlo uncertainty (faster; no sigmas in the results).")
 @_guard
-def measure(session_toml: Path, outdir: Path, calibration: Path | None, force: bool) -> None:
-    """Measure every shot of a session: angles, peak cd, throw, flux."""
-    result = run_measure(session_toml, outdir, calibration=calibration, force=force)
+def measure(session_toml: Path, outdir: Path, calibration: Path | None, force: bool,
+            no_uncertainty: bool) -> None:
+    """Measure every shot of a session: angles, peak cd, throw, flux, with uncertainties."""
+    result = run_measure(session_toml, outdir, calibration=calibration, force=force,
+                         uncertainty=not no_uncertainty)
     _print_result(result, outdir)
     click.echo(CAUTION, err=True)
 

@@ -672,6 +672,7 @@ def measure_session(
     force: bool = False,
     progress: ProgressCallback = _noop,
     calibration_file: str | None = None,
+    uncertainty: bool = True,
 ) -> SessionResult:
     """Measure every shot of a session.
 
@@ -683,6 +684,8 @@ def measure_session(
     force : bool, keyword-only
         Apply a calibration made for another camera or encoding (with a warning).
     progress : callable, keyword-only
+    uncertainty : bool, keyword-only
+        Run the Monte Carlo uncertainty (default); without it the sigmas are absent.
 
     Returns
     -------
@@ -722,7 +725,8 @@ def measure_session(
         exposures_seen.extend(sig.exposures)
     progress("done", total, total)
     results = _with_relative(results)
-    results = _with_uncertainty(results, session, mapping, calibration, exposures_seen)
+    if uncertainty:
+        results = _with_uncertainty(results, session, mapping, calibration, exposures_seen)
     comparison = session_comparisons(
         results, session.shots, session_electrical_spec=session.electrical, source=file
     )

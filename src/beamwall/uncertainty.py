@@ -20,7 +20,7 @@ functions the measurement uses (:func:`beamwall.distribution.outermost_crossing_
   the crossings (linearised: sigma_r = sigma_E / |dE/dr| at each crossing, averaged over the
   azimuths that are independent at the smoothing scale);
 * **grid resolution**: the crossings' radius is known to a fraction of a wall cell, alike at
-  all azimuths (a rectangular distribution of half width ``RESOLUTION_HALF_WIDTH_CELLS``).
+  all azimuths (rectangular distributions of half widths ``RESOLUTION_HALF_WIDTH_CELLS``).
 
 Each figure's standard uncertainty (k=1) is the standard deviation of its trials; the budget
 gives each input's contribution from one-at-a-time trials with the same seeds (their squares
@@ -78,10 +78,12 @@ EXPOSURE_RATIO_SIGMA_FRACTION: float = 0.01
 #: between two parts of the frame).
 FLAT_FIELD_SIGMA_FRACTION: float = 0.005
 
-#: Half width (wall cells) of the rectangular distribution of the crossings' radius: linear
-#: interpolation between samples of a lightly smoothed map places a crossing to a fraction of
-#: a cell; 0.25 matched the spread measured against ground truth (docs/uncertainty.md).
-RESOLUTION_HALF_WIDTH_CELLS: float = 0.25
+#: Half width (wall cells) of the rectangular distribution of the crossings' radius, for the
+#: 50 % and the 10 % crossing: linear interpolation between samples of a lightly smoothed map
+#: places a crossing to a fraction of a cell; the 10 % crossing, on the dimmer, flatter tail,
+#: less well. Set from the spread measured against ground truth over 300 rendered scenes
+#: (docs/uncertainty.md); common practice, no source.
+RESOLUTION_HALF_WIDTH_CELLS: tuple[float, float] = (0.2, 0.4)
 
 #: Standard uncertainty of a hand-clicked point's pixel coordinates when the session gives
 #: none and exactly four points leave no residual to estimate it from (common practice, no
@@ -428,7 +430,8 @@ def _figures_for(
         ("field_angle_deg", prof.field_r_mm, prof.field_e, FIELD_LEVEL_FRACTION, field_z,
          prof.field_noise_deg),
     ):
-        rt = trial_radii(r) + shift_cells * prof.cell_mm
+        level = 0 if name == "beam_angle_deg" else 1
+        rt = trial_radii(r) + shift_cells * RESOLUTION_HALF_WIDTH_CELLS[level] * prof.cell_mm
         theta = np.degrees(np.arctan(rt / d_mm))
         prof_i = np.where(np.isinf(e), np.inf, intensity(e, rt))
         half = outermost_crossing_deg(theta, prof_i, frac * peak_rel)
@@ -545,12 +548,11 @@ def propagate(
             noise[:, :3] = (rng.standard_normal((len(profiles), 3)) if z_fixed is None
                             else z_fixed)
         if "resolution" in active:
-            # The crossings' position is known to about a quarter of a wall cell, the same
-            # way at every azimuth (interpolation and smoothing on the grid): a rectangular
-            # draw [GUM 4.3.7]; +-1 sigma of it for the budget.
-            h = RESOLUTION_HALF_WIDTH_CELLS
-            noise[:, 3] = (rng.uniform(-h, h, len(profiles)) if z_fixed is None
-                           else z_fixed * h / np.sqrt(3.0))
+            # The crossings' position is known to a fraction of a wall cell, the same way at
+            # every azimuth (interpolation and smoothing on the grid): a rectangular draw in
+            # units of each level's half width [GUM 4.3.7]; +-1 sigma of it for the budget.
+            noise[:, 3] = (rng.uniform(-1.0, 1.0, len(profiles)) if z_fixed is None
+                           else z_fixed / np.sqrt(3.0))
         return d, k, g, noise
 
     def evaluate(d: float, k: float, g: Any, noise: np.ndarray) -> np.ndarray:
