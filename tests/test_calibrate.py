@@ -12,12 +12,12 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
+from conftest import analytic_grid
 
 from beamwall.calibrate import fit_lamp_reference, fit_lux_reference
 from beamwall.errors import BeamwallError, CalibrationError
 from beamwall.pipeline import calibrate_session  # noqa: F401  (import check)
 from beamwall.report.jsonfile import read_calibration, write_calibration
-from conftest import analytic_grid
 
 K_TRUE = 37.5  # lx per signal unit (invented for the test)
 

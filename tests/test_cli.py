@@ -15,10 +15,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 from click.testing import CliRunner
+from test_accuracy import Case, _pose, write_case
 
 from beamwall import synth
 from beamwall.cli import main
-from test_accuracy import CASES, Case, _pose, write_case
 
 CONTRACT_SHOT_KEYS = {
     "label", "zoom", "mode", "beam_angle_deg", "beam_angle_sigma_deg", "field_angle_deg",

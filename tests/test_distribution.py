@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from conftest import analytic_grid
 
 from beamwall.distribution import (
     find_axis,
@@ -20,7 +21,6 @@ from beamwall.distribution import (
     smooth_nan,
 )
 from beamwall.figures import angle_summary
-from conftest import analytic_grid
 
 
 def gaussian(s_deg, peak=1000.0):

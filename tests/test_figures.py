@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from conftest import analytic_grid
 
 from beamwall.figures import (
     angle_summary,
@@ -18,7 +19,6 @@ from beamwall.figures import (
     saturated_fraction,
     throw_m,
 )
-from conftest import analytic_grid
 
 
 def test_throw_fl1_worked_examples():

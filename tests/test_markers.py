@@ -13,13 +13,12 @@ import math
 
 import numpy as np
 import pytest
+from _marker_scenes import MarkerCase, pose, write_marker_session
 
 from beamwall import markers, synth, synth_setup, wall
 from beamwall.errors import GeometryError, ImageError
 from beamwall.pipeline import measure_session
 from beamwall.session import load_session
-
-from _marker_scenes import MarkerCase, pose, write_marker_session
 
 SIZE_MM = 180.0
 

@@ -12,12 +12,11 @@ from __future__ import annotations
 import json
 
 import pytest
+from _marker_scenes import MarkerCase, pose, write_marker_session
 from click.testing import CliRunner
 
 from beamwall import synth
 from beamwall.cli_check import check
-
-from _marker_scenes import MarkerCase, pose, write_marker_session
 
 
 def _run(case, tmp_path, *args):

@@ -10,7 +10,6 @@ bracket or true lens, and runs ``calibrate_session`` / ``measure_session``. Tole
 from __future__ import annotations
 
 import numpy as np
-import pytest
 
 from beamwall import synth
 from beamwall import synth_camera as sc

@@ -10,10 +10,10 @@ twice the errors' spread; benchmarks/coverage.py runs 300 scenes (docs/uncertain
 
 from __future__ import annotations
 
+import coverage_experiment as experiment
 import numpy as np
 import pytest
 
-import coverage_experiment as experiment
 from beamwall.uncertainty import estimate_noise
 
 

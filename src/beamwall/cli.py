@@ -66,7 +66,7 @@ def _progress(label: str) -> Iterator[Callable[[str, int, int], None]]:
                 length=total, label=label, file=sys.stderr, show_pos=True,
                 item_show_func=lambda s: s,
             )
-            state["bar"].__enter__()
+            state["bar"].__enter__()  # type: ignore[attr-defined]
             state["done"] = 0
         bar = state["bar"]
         step = done - state["done"]
@@ -85,7 +85,7 @@ def _check_new(path: Path, force: bool, what: str) -> None:
         raise InputError(f"{what} exists; use --force to overwrite it", file=path)
 
 
-def _atomic_write(path: Path, write: Callable[[Path], None]) -> None:
+def _atomic_write(path: Path, write: Callable[[Path], Any]) -> None:
     """Write through a temporary file in the same folder, then rename: nothing half-written."""
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", dir=path.parent)
@@ -122,7 +122,8 @@ def format_table(result: Any) -> str:
     for s in result.shots:
         flux = "-"
         if s.flux_lm is not None:
-            flux = f"{_fmt(s.flux_lm, _sig(s.flux_lm), s.flux_sigma_lm)} ({s.flux_half_angle_deg:g})"
+            flux_text = _fmt(s.flux_lm, _sig(s.flux_lm), s.flux_sigma_lm)
+            flux = f"{flux_text} ({s.flux_half_angle_deg:g})"
         elif s.relative_flux is not None:
             flux = f"x{s.relative_flux:.3f} rel."
         peak = (
@@ -222,8 +223,9 @@ def _write_extras(result: Any, outdir: Path) -> None:
     for shot in result.shots:
         text = ies_text(shot)
         if text is not None:
+            data = text.encode("ascii")
             _atomic_write(outdir / (ies_slug(shot.label) + ".ies"),
-                          lambda p, t=text: p.write_bytes(t.encode("ascii")))
+                          lambda p, b=data: p.write_bytes(b))  # type: ignore[misc]
     _atomic_write(outdir / "report.html", lambda p: write_html(result, p))
 
 

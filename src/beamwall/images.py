@@ -62,9 +62,9 @@ import logging
 import math
 import struct
 import zlib
+from collections.abc import Sequence
 from dataclasses import dataclass
 from fractions import Fraction
-from collections.abc import Sequence
 from os import PathLike
 from pathlib import Path
 from typing import Any
@@ -222,7 +222,8 @@ def read_frame(path: str | PathLike[str]) -> Frame:
     ------
     ImageError
         The file cannot be read, is empty, truncated, not JPEG/PNG/TIFF or a raw file LibRaw
-        reads (a raw file: not a 2 x 2 Bayer sensor), or holds samples that are not 8- or 16-bit unsigned integers or not grey/RGB(A). The
+        reads (a raw file: not a 2 x 2 Bayer sensor), or holds samples that are not 8- or
+        16-bit unsigned integers or not grey/RGB(A). The
         message is one line and names the file.
 
     Notes

@@ -28,16 +28,15 @@ from typing import Any
 
 import numpy as np
 
-from beamwall import __version__
+from beamwall import __version__, linear, markers, spectra_io, spectral, wall
 from beamwall import images as img
-from beamwall import linear, markers, wall
-from beamwall.camera_geometry import focal_length_from_homography
 from beamwall.calibrate import (
     Calibration,
     ReferenceFit,
     fit_lamp_reference,
     fit_lux_reference,
 )
+from beamwall.camera_geometry import focal_length_from_homography
 from beamwall.compare import session_comparisons
 from beamwall.constants import REC709_LUMINANCE_WEIGHTS
 from beamwall.distribution import (
@@ -57,18 +56,9 @@ from beamwall.figures import (
     saturated_fraction,
     throw_m,
 )
-from beamwall import spectra_io, spectral
 from beamwall.profile_io import check_frame, load_profile, session_points_px
 from beamwall.provenance import sha256_file
 from beamwall.results import InputFile, SessionResult, ShotResult
-from beamwall.uncertainty import (
-    DEFAULT_POINTS_SIGMA_PX,
-    EXPOSURE_RATIO_SIGMA_FRACTION,
-    FLAT_FIELD_SIGMA_FRACTION,
-    UncertaintyInputs,
-    propagate,
-    sample_profiles,
-)
 from beamwall.session import (
     CalibrationSession,
     CameraSpec,
@@ -76,6 +66,14 @@ from beamwall.session import (
     ShotSpec,
     WallSpec,
     shot_field,
+)
+from beamwall.uncertainty import (
+    DEFAULT_POINTS_SIGMA_PX,
+    EXPOSURE_RATIO_SIGMA_FRACTION,
+    FLAT_FIELD_SIGMA_FRACTION,
+    UncertaintyInputs,
+    propagate,
+    sample_profiles,
 )
 
 __all__ = ["measure_session", "calibrate_session", "ProgressCallback", "ShotSignal"]
@@ -294,6 +292,7 @@ class _SpectralContext:
                  calibration_file: str | None) -> None:
         self.enabled = calibration is not None
         self.session = session
+        self.weights: tuple[float, float, float] = REC709_LUMINANCE_WEIGHTS
         self.camera = None
         self.reference = None
         if not self.enabled:
@@ -320,7 +319,7 @@ class _SpectralContext:
         if not has_source and self.camera is None:
             return spectral.SpectralCorrection(
                 spectral_correction_factor=1.0, spectral_correction_sigma=0.0,
-                spectral_mismatch_f1_prime=None, luminance_weights=tuple(self.weights),
+                spectral_mismatch_f1_prime=None, luminance_weights=self.weights,
                 warnings=("spectral mismatch not assessed (no source_cct_k, "
                           "source_spectrum_csv or source_cie_illuminant): factor 1.0, "
                           "left out of the uncertainty",),
@@ -604,9 +603,8 @@ def _with_uncertainty(
         if differs:
             cal_rel["exposure_ratio"] = EXPOSURE_RATIO_SIGMA_FRACTION
         cal_rel["flat_field"] = FLAT_FIELD_SIGMA_FRACTION
-    pts_px, pts_mm, sigma_px = _mapping_points(session.wall, mapping)
-    if len(pts_px) < 4:
-        pts_px = pts_mm = None
+    px_all, mm_all, sigma_px = _mapping_points(session.wall, mapping)
+    pts_px, pts_mm = (px_all, mm_all) if len(px_all) >= 4 else (None, None)
     inputs = UncertaintyInputs(
         lux_per_signal=calibration.lux_per_signal if calibration is not None else 1.0,
         distance_sigma_m=session.rig.distance_sigma_m or 0.0,

@@ -17,9 +17,8 @@ from typing import Any
 import cv2
 import numpy as np
 
-from beamwall import __version__
+from beamwall import __version__, linear
 from beamwall import images as img
-from beamwall import linear
 from beamwall.errors import BeamwallError, CalibrationError, InputError
 from beamwall.profile import (
     CameraProfile,
@@ -151,7 +150,8 @@ def build_profile(ps: ProfileSession) -> CameraProfile:
     distortion = None
     if frames["distortion"]:
         corners_shape = ps.inner_corners or (0, 0)
-        found, missing = [], []
+        found: list[Any] = []
+        missing: list[Any] = []
         for f in frames["distortion"]:
             c = find_board_corners(board_grey(f), corners_shape)
             (found if c is not None else missing).append(c if c is not None else f.path.name)

@@ -330,9 +330,12 @@ def _rotation(rx_deg: float, ry_deg: float, rz_deg: float) -> np.ndarray:
 
 @dataclass(frozen=True)
 class BoardView:
-    """One pose of the printed board: in front of the camera at ``distance_mm`` on its axis,
-    moved by ``shift_mm`` (x right, y down in the camera's frame) and turned by ``tilt_deg``
-    (rotation vector components about x, y, z, degrees)."""
+    """One pose of the printed board.
+
+    In front of the camera at ``distance_mm`` on its axis, moved by ``shift_mm`` (x right,
+    y down in the camera's frame) and turned by ``tilt_deg`` (rotation vector components about
+    x, y, z, degrees).
+    """
 
     distance_mm: float
     tilt_deg: tuple[float, float, float] = (0.0, 0.0, 0.0)

@@ -93,8 +93,10 @@ DEFAULT_POINTS_SIGMA_PX: float = 0.5
 
 @dataclass(frozen=True)
 class NoiseModel:
-    """Pixel noise of a wall map: sigma^2(E) = a + b E at the cell level, and the factor that
-    turns a cell's noise into the smoothed map's."""
+    """Pixel noise of a wall map, sigma^2(E) = a + b E at the cell level.
+
+    ``smoothing_factor`` turns a cell's noise into the smoothed map's.
+    """
 
     a: float
     b: float
@@ -420,9 +422,8 @@ def _figures_for(
     if g is not None:
         q = cv2.perspectiveTransform(np.array([[prof.peak_xy_mm], [prof.axis_mm]], float), g)
         peak_r = float(np.hypot(*(q[0, 0] - q[1, 0])))
-    peak_rel = intensity(np.array(prof.peak_e), np.array(peak_r)) * (
+    peak_rel = float(intensity(np.array(prof.peak_e), np.array(peak_r))) * (
         1.0 + prof.peak_noise_fraction * peak_z)
-    peak_rel = float(peak_rel)
     out: dict[str, float | None] = {}
     for name, r, e, frac, z, noise in (
         ("beam_angle_deg", prof.beam_r_mm, prof.beam_e, BEAM_LEVEL_FRACTION, beam_z,
