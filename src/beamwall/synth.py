@@ -193,6 +193,10 @@ NEUTRAL_RGB: tuple[float, float, float] = (1.0, 1.0, 1.0)
 def srgb_encode(linear: np.ndarray) -> np.ndarray:
     """Encode linear values with the sRGB transfer curve.
 
+    Written apart from :func:`beamwall.linear.srgb_encode` on purpose: the renderer is the
+    ground truth the measuring chain is tested against, so it shares none of its code (both
+    are checked against colour-science).
+
     Parameters
     ----------
     linear : array_like, any shape
@@ -1312,6 +1316,7 @@ def wall_illuminance_lx(
 
 
 def _exposure_factor(exposure: Exposure) -> float:
+    # Apart from beamwall.linear.exposure_factor on purpose (see srgb_encode).
     for name in ("exposure_s", "f_number", "iso"):
         _check_positive(float(getattr(exposure, name)), name)
     t, iso, n = float(exposure.exposure_s), float(exposure.iso), float(exposure.f_number)
