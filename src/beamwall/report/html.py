@@ -468,6 +468,73 @@ class _Canvas:
         return "data:image/png;base64," + base64.b64encode(buffer.getvalue()).decode("ascii")
 
 
+#: Words for the uncertainty budget's inputs (keys of ShotResult.uncertainty_budget).
+BUDGET_INPUT_NAMES: dict[str, str] = {
+    "distance": "torch distance",
+    "reference_intensity": "reference lamp intensity",
+    "reference_illuminance": "lux-meter reading",
+    "reference_distance": "reference lamp distance",
+    "calibration_pixel_noise": "pixel noise at the reference",
+    "exposure_ratio": "exposure ratio (reference vs shot)",
+    "flat_field": "residual flat field",
+    "spectral": "spectral mismatch",
+    "wall_mapping": "wall mapping",
+    "pixel_noise": "pixel noise of the shot",
+    "resolution": "grid resolution",
+}
+
+_BUDGET_FIGURES: tuple[tuple[str, str], ...] = (
+    ("beam_angle_deg", "beam angle (deg)"),
+    ("field_angle_deg", "field angle (deg)"),
+    ("peak_intensity_cd", "peak (cd)"),
+    ("flux_lm", "flux (lm)"),
+    ("throw_m", "throw (m)"),
+)
+
+
+def budget_rows(shot: ShotResult) -> tuple[list[str], list[list[str]]]:
+    """The uncertainty budget as a table: one row per input, one column per figure.
+
+    Each cell is the input's contribution to the figure's standard uncertainty (k = 1, in the
+    figure's unit) and, in brackets, its share of the summed variances. An empty list of rows
+    when the shot has no budget.
+
+    Examples
+    --------
+    >>> from beamwall.results import ShotResult
+    >>> s = ShotResult("a", None, None, 10.0, 20.0, None, None, None, None, (0.0, 0.0), 0.0,
+    ...                1.0, 1.0, uncertainty_budget={"beam_angle_deg": {"distance": 0.3,
+    ...                                                                  "resolution": 0.4}})
+    >>> header, rows = budget_rows(s)
+    >>> header[:2]
+    ['input', 'beam angle (deg)']
+    >>> rows  # 0.3^2 / (0.3^2 + 0.4^2) = 36 %
+    [['torch distance', '0.30 (36 %)'], ['grid resolution', '0.40 (64 %)']]
+    """
+    budget = shot.uncertainty_budget or {}
+    figures = [(key, label) for key, label in _BUDGET_FIGURES if budget.get(key)]
+    if not figures:
+        return [], []
+    inputs: list[str] = []
+    for key, _ in figures:
+        for name in budget[key]:
+            if name not in inputs:
+                inputs.append(name)
+    header = ["input"] + [label for _, label in figures]
+    rows = []
+    for name in inputs:
+        row = [BUDGET_INPUT_NAMES.get(name, name.replace("_", " "))]
+        for key, _ in figures:
+            contrib = budget[key].get(name)
+            total = sum(v * v for v in budget[key].values())
+            if contrib is None or total <= 0:
+                row.append("—")
+            else:
+                row.append(f"{_fmt_sig(contrib, 2)} ({100 * contrib * contrib / total:.0f} %)")
+        rows.append(row)
+    return header, rows
+
+
 def _view_box(shot: ShotResult, grid: WallGrid) -> tuple[float, float, float, float]:
     """Return the wall region to show, mm (left, right, bottom, top).
 
@@ -778,6 +845,12 @@ def _shot_section(index: int, shot: ShotResult, session: SessionResult,
     parts.append("<h3>Figures</h3>")
     parts.append(_table(("figure", "value", "standard uncertainty (k = 1)", "unit"),
                         figure_rows(shot), numeric=(1, 2)))
+    header, rows = budget_rows(shot)
+    if rows:
+        parts.append("<h3>Uncertainty budget</h3><p class=\"meta\">Each input's contribution "
+                     "to the standard uncertainty (k = 1), and its share of the variance, by "
+                     "Monte Carlo propagation (JCGM 101).</p>")
+        parts.append(_table(header, rows, numeric=tuple(range(1, len(header)))))
     plots = []
     if math.isfinite(peak):
         wall = _draw_wall(canvases["wall"], shot, unit, peak)
