@@ -178,7 +178,7 @@ def _angles_ok(tmp_path):
     return result
 
 
-def _mapping_hook(spec, *, file):
+def _mapping_hook(spec, *, file, camera=None):
     """The pipeline hook proposed to the lead (see the report)."""
     from beamwall import images
     from beamwall.errors import ImageError as _ImageError

@@ -21,7 +21,8 @@ Fit: the corners go through ``cv2.findHomography`` with RANSAC [OCV-H]_ to rejec
 corner (glare, a fold in the paper); a marker with two or more rejected corners is dropped as
 a whole (wrong id or a mis-measured centre) with a warning; the inliers are then fitted by
 :func:`beamwall.wall.fit_homography` (normalised DLT [HZ]_) for the vetting and the RMS
-reprojection error on the wall in mm.
+reprojection error on the wall in mm. With a distorting lens, pass the camera profile's
+distortion: the corners are undistorted first and the mapping refers to ideal pixels.
 
 A moved camera: the mapping holds for the beam photos only if the tripod did not move.
 :func:`camera_shift` compares the setup photo with another photo of the same wall by phase
@@ -54,6 +55,7 @@ from numpy.typing import ArrayLike
 from beamwall import wall
 from beamwall.errors import GeometryError, ImageError
 from beamwall.linear import srgb_decode
+from beamwall.profile import LensDistortion, undistort_points
 
 __all__ = [
     "MIN_MARKERS_FOUND",
@@ -312,6 +314,7 @@ def wall_mapping_from_markers(
     source: str = "[wall] setup_image",
     max_rms_mm: float | None = None,
     detection: MarkerDetection | None = None,
+    distortion: LensDistortion | None = None,
 ) -> wall.WallMapping:
     """Fit the wall-to-pixel homography to the corners of the markers in a setup photo.
 
@@ -330,12 +333,21 @@ def wall_mapping_from_markers(
         5 mm and 0.5 % of the largest distance between two corners (common practice, no
         source).
     detection : MarkerDetection, optional
-        A detection already made on ``pixels`` (saves detecting twice).
+        A detection already made on ``pixels`` (saves detecting twice), in the photo's own
+        (distorted) pixels.
+    distortion : beamwall.profile.LensDistortion, optional
+        The lens's distortion, from the camera profile. The detected corners are then moved
+        to their ideal (pinhole) positions with :func:`beamwall.profile.undistort_points`
+        before the fit, and the mapping refers to ideal pixels: resample with
+        ``distortion=`` in :func:`beamwall.wall.resample_to_wall`. Without it the
+        homography is fitted to the photo's pixels as they are, and a distorting lens shows
+        as a larger reprojection error and wall positions off by up to the distortion.
 
     Returns
     -------
     WallMapping
-        Fitted to all inlier corners; its ``warnings`` name listed markers not found, found
+        Fitted to all inlier corners (ideal pixels when ``distortion`` is given); its
+        ``warnings`` name listed markers not found, found
         markers not listed (ignored), corners or markers rejected by RANSAC, and a marker
         side that disagrees with ``marker_size_mm``.
 
@@ -372,6 +384,9 @@ def wall_mapping_from_markers(
                             field=source)
     listed = {int(k): (float(v[0]), float(v[1])) for k, v in markers_mm.items()}
     det = detection if detection is not None else detect_markers(pixels)
+    if distortion is not None and len(det.ids):
+        ideal = undistort_points(distortion, det.corners_px.reshape(-1, 2))
+        det = MarkerDetection(ids=det.ids, corners_px=ideal.reshape(-1, 4, 2))
     warnings: list[str] = []
 
     counts: dict[int, int] = {}

@@ -164,16 +164,27 @@ def _resolve_exposure(
                            iso=values["iso"])
 
 
-def _mapping(spec: WallSpec, *, file: str) -> wall.WallMapping:
-    """The wall mapping from the points, or from the markers in the setup photo."""
+def _mapping(spec: WallSpec, *, file: str, camera: CameraSpec | None = None) -> wall.WallMapping:
+    """The wall mapping from the points, or from the markers in the setup photo.
+
+    With markers and a camera profile that holds a lens distortion, the marker corners are
+    undistorted before the fit, so the mapping refers to ideal pixels, as
+    :func:`load_shot_signal` and :func:`beamwall.wall.resample_to_wall` expect. Given points
+    are refitted by :func:`load_shot_signal` (they need the frame's binning too).
+    """
     if spec.points is None:
         if spec.setup_image is None or spec.markers_mm is None or spec.marker_size_mm is None:
             raise InputError("give points, or setup_image with marker_size_mm and markers_mm",
                              file=file, field="[wall]")
         frame = img.read_frame(spec.setup_image)
+        distortion = None
+        if camera is not None and camera.profile is not None:
+            profile = load_profile(camera.profile)
+            check_frame(profile, frame, profile_file=camera.profile)
+            distortion = profile.distortion
         return markers.wall_mapping_from_markers(
             frame.pixels, markers_mm=spec.markers_mm, marker_size_mm=spec.marker_size_mm,
-            source="[wall] setup_image",
+            source="[wall] setup_image", distortion=distortion,
         )
     pts = np.asarray(spec.points, dtype=np.float64)
     return wall.fit_homography(pts[:, :2], pts[:, 2:])
@@ -196,7 +207,9 @@ def load_shot_signal(
 
     ``fallback`` holds the calibration's f-number and ISO, assumed for photos that give none.
     ``wall_points`` (the session's ``[wall] points``) are refitted in the frame's pixels when
-    a camera profile removes lens distortion or a raw file is binned.
+    a camera profile removes lens distortion or a raw file is binned. Without them (a marker
+    session) ``mapping`` is used as given: :func:`_mapping` already fitted it to undistorted
+    marker corners when the profile holds a lens distortion.
     """
     notes: list[str] = []
     assumed: set[str] = set()
@@ -690,7 +703,7 @@ def measure_session(
     SessionResult
     """
     file = str(session.path)
-    mapping = _mapping(session.wall, file=file)
+    mapping = _mapping(session.wall, file=file, camera=session.camera)
     total = len(session.shots)
     results: list[ShotResult] = []
     inputs: list[InputFile] = [InputFile("session", file, sha256_file(session.path))]
@@ -781,7 +794,7 @@ def calibrate_session(
     file = str(cs.path)
     ref = cs.reference
     progress("reference", 0, 1)
-    mapping = _mapping(cs.wall, file=file)
+    mapping = _mapping(cs.wall, file=file, camera=cs.camera)
     own = {"exposures_s": ref.exposures_s, "exposure_s": ref.exposure_s,
            "f_number": ref.f_number, "iso": ref.iso}
     sig = load_shot_signal(
