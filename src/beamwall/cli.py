@@ -269,34 +269,71 @@ def measure(session_toml: Path, outdir: Path, calibration: Path | None, force: b
 @click.option("--seed", type=int, default=1, show_default=True, help="Noise seed.")
 @_guard
 def demo(outdir: Path | None, force: bool, seed: int) -> None:
-    """Render the bundled fictional scenario and run the whole chain on it."""
+    """Render the bundled fictional scenario and run the whole chain on it.
+
+    Camera profile (flat field, lens distortion) -> calibration (reference lamp, wall mapped
+    from printed markers) -> measurement, then the figures against the renderer's truth
+    (also written to results/truth_comparison.json).
+    """
+    import json
+
     from beamwall import scenario
     from beamwall.pipeline import calibrate_session
+    from beamwall.profile_io import build_profile, write_profile
     from beamwall.report.jsonfile import write_calibration
-    from beamwall.session import load_calibration_session
+    from beamwall.session import load_calibration_session, load_profile_session
 
-    tmp = None
     if outdir is None:
-        tmp = Path(tempfile.mkdtemp(prefix="beamwall-demo-"))
-        outdir = tmp
+        outdir = Path(tempfile.mkdtemp(prefix="beamwall-demo-"))
     scene_dir = outdir / "scene"
     _check_new(outdir / "results", force, "demo results")
     if scene_dir.exists() and force:
         shutil.rmtree(scene_dir)
     click.echo(f"rendering the demo scenario into {scene_dir} ...", err=True)
     written = scenario.write_demo(scene_dir, seed=seed)
-    cs = load_calibration_session(written.calibration_toml)
-    cal = calibrate_session(cs)
-    cal_path = written.calibration_json
-    _atomic_write(cal_path, lambda p: write_calibration(cal, p))
-    click.echo(f"calibration: {cal.lux_per_signal:.6g} lx per signal unit "
-               f"± {100 * cal.relative_sigma:.1f} %", err=True)
+
+    prof = build_profile(load_profile_session(written.profile_toml))
+    _atomic_write(written.profile_json, lambda p: write_profile(prof, p))
+    lens = ""
+    if prof.distortion is not None:
+        lens = (f", lens f = {prof.distortion.focal_length_px:.1f} px, "
+                f"k1 = {prof.distortion.coefficients[0]:+.4f}")
+    parts = [name for name, part in (("response curve", prof.response),
+                                     ("flat field", prof.flat_field),
+                                     ("lens distortion", prof.distortion)) if part is not None]
+    click.echo(f"1/3 profile: {', '.join(parts)}{lens} -> {written.profile_json}")
+    for w in prof.warnings:
+        click.echo(f"warning: profile: {w}", err=True)
+
+    cal = calibrate_session(load_calibration_session(written.calibration_toml))
+    _atomic_write(written.calibration_json, lambda p: write_calibration(cal, p))
+    click.echo(f"2/3 calibrate: {cal.lux_per_signal:.6g} lx per signal unit "
+               f"± {100 * cal.relative_sigma:.1f} % -> {written.calibration_json}")
+    for w in cal.warnings:
+        click.echo(f"warning: calibration: {w}", err=True)
+
     results_dir = outdir / "results"
     result = run_measure(written.session_toml, results_dir, calibration=None, force=True)
+    click.echo(f"3/3 measure: {len(result.shots)} shots, wall from "
+               f"{result.settings.get('wall_points')} marker corners (RMS "
+               f"{result.settings.get('wall_rms_error_mm', 0.0):.1f} mm) -> "
+               f"{results_dir / 'results.json'}")
     _print_result(result, results_dir)
+
+    errors = scenario.truth_errors(result, written.truth)
+    outside = scenario.outside_tolerance(errors)
+    comparison = {"tolerances": scenario.TOLERANCES, "errors": errors, "outside": list(outside)}
+    text = json.dumps(comparison, indent=1) + "\n"
+    _atomic_write(results_dir / "truth_comparison.json",
+                  lambda p: p.write_text(text, encoding="utf-8"))
     click.echo("")
     click.echo("against the renderer's ground truth:")
     click.echo(scenario.format_truth_comparison(result, written.truth))
+    limits = ", ".join(f"{k} {100 * v:g} %" for k, v in scenario.TOLERANCES.items())
+    if outside:
+        click.echo(f"outside the tolerances ({limits}): {'; '.join(outside)}")
+    else:
+        click.echo(f"every figure within the tolerances ({limits})")
     click.echo(CAUTION, err=True)
 
 
