@@ -74,6 +74,13 @@ CASES = [
                                                     hotspot_half_angle_deg=4.0,
                                                     spill_cd=250.0, spill_half_angle_deg=20.0),
          2.0, _pose(0.5, 0.3, 2.5, f_px=700.0), bracket=True),
+    # A dim narrow spot through a wide lens: at the frame's far corners (70 deg from the
+    # axis) noise specks, amplified by 1/cos^3 and the falloff correction, reach 10 % of the
+    # peak; they must not be taken for the field's edge.
+    Case("narrow-spot-wide-lens", synth.SquareSpot(spot_cd=4000.0, half_side_deg=3.0,
+                                                   blur_deg=0.5, halo_cd=40.0,
+                                                   halo_sigma_deg=12.0, rotation_deg=20.0),
+         1.5, _pose(0.35, -0.25, 2.0, f_px=420.0, w=1200, h=800)),
     # No focal length in EXIF: estimated from the wall mapping (camera tilted ~17 deg).
     Case("no-focal-exif-flood", synth.FlatFlood(plateau_cd=200.0, half_angle_deg=22.0),
          1.5, _pose(0.6, 0.3, 2.0, f_px=600.0), exif="no_focal"),

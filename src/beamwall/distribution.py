@@ -246,6 +246,10 @@ def coarsen(grid: WallGrid, factor: int) -> WallGrid:
     )
 
 
+#: Above-level runs along a ray narrower than this many smoothing widths (outside the
+#: innermost run) count as noise, not as the beam's edge (common practice, no source).
+MIN_RUN_SIGMAS: float = 4.0
+
 #: Cells above which the axis and the smoothing width are found on a coarsened grid.
 COARSE_CELLS: int = 400_000
 
@@ -326,7 +330,7 @@ def find_axis(
 
 
 def outermost_crossing_deg(
-    theta_deg: np.ndarray, profiles: np.ndarray, level: float
+    theta_deg: np.ndarray, profiles: np.ndarray, level: float, *, min_run: int = 1
 ) -> np.ndarray:
     """The largest polar angle at which each profile is still at or above ``level``.
 
@@ -336,6 +340,11 @@ def outermost_crossing_deg(
     profiles : (n, m) values along theta for m azimuths. NaN marks the end of the measured
         range (outside the photo); +inf marks a clipped (known bright) sample.
     level : float
+    min_run : int, keyword-only
+        Runs of fewer than ``min_run`` consecutive samples at or above the level, outside the
+        innermost run, are taken as noise and ignored (a speck of noise far out, amplified by
+        the 1 / cos^3 and falloff corrections, must not become the beam's edge; a real ring
+        or spill is wider). 1 keeps every run.
 
     Returns
     -------
@@ -359,6 +368,8 @@ def outermost_crossing_deg(
     rows = np.arange(n)[:, None]
     in_range = rows < first_nan[None, :]
     above = (p >= level) & in_range
+    if min_run > 1:
+        above = _drop_short_runs(above, min_run)
     any_above = above.any(axis=0)
     last = n - 1 - np.argmax(above[::-1, :], axis=0)
     out = np.full(m, np.nan)
@@ -377,6 +388,28 @@ def outermost_crossing_deg(
     else:
         t0, t1 = t[k, cols], t[k + 1, cols]
     out[cols] = t0 + frac * (t1 - t0)
+    return out
+
+
+def _drop_short_runs(above: np.ndarray, min_run: int) -> np.ndarray:
+    """Clear runs of True shorter than ``min_run`` along axis 0, except each column's first.
+
+    Examples
+    --------
+    >>> a = np.array([1, 1, 0, 0, 1, 0, 1, 1, 1, 0], bool)[:, None]
+    >>> _drop_short_runs(a, 3)[:, 0].astype(int).tolist()
+    [1, 1, 0, 0, 0, 0, 1, 1, 1, 0]
+    """
+    out = above.copy()
+    n = above.shape[0]
+    for j in np.nonzero(above.any(axis=0))[0]:
+        idx = np.flatnonzero(above[:, j])
+        breaks = np.flatnonzero(np.diff(idx) > 1)
+        starts = np.concatenate([[idx[0]], idx[breaks + 1]])
+        ends = np.concatenate([idx[breaks], [idx[-1]]])
+        for a, b in zip(starts[1:], ends[1:]):
+            if b - a + 1 < min_run and b < n - 1:
+                out[a:b + 1, j] = False
     return out
 
 
@@ -453,7 +486,7 @@ def polar_distribution(
     samples is interpolated linearly.
     """
     sat = intensity.saturated
-    smooth_map, _, peak = smoothed if smoothed is not None else smoothed_intensity(intensity)
+    smooth_map, sigma, peak = smoothed if smoothed is not None else smoothed_intensity(intensity)
 
     # Angular extent: the farthest measured cell from the axis.
     x_mm, y_mm = grid_coordinates_mm(intensity)
@@ -489,10 +522,13 @@ def polar_distribution(
         phi_deg=phi_deg,
     )
     crossing_profiles = np.where(clipped_mask > 0, np.inf, sampled)
-    beam_half = outermost_crossing_deg(theta_deg, crossing_profiles, BEAM_LEVEL_FRACTION * peak)
-    field_half = outermost_crossing_deg(
-        theta_deg, crossing_profiles, FIELD_LEVEL_FRACTION * peak
-    )
+    # Noise specks: shorter than a few smoothing widths along the ray (theta steps are about
+    # half a cell at the axis, and never shorter in wall distance further out).
+    min_run = max(2, int(np.ceil(MIN_RUN_SIGMAS * sigma / 0.5)))
+    beam_half = outermost_crossing_deg(theta_deg, crossing_profiles,
+                                       BEAM_LEVEL_FRACTION * peak, min_run=min_run)
+    field_half = outermost_crossing_deg(theta_deg, crossing_profiles,
+                                        FIELD_LEVEL_FRACTION * peak, min_run=min_run)
     intensity_polar = np.where(clipped_mask > 0, np.nan, sampled).astype(np.float32)
     return Distribution(
         theta_deg=theta_deg,
