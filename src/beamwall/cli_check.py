@@ -43,7 +43,12 @@ def check(session_toml: Path, as_json: bool, lens_mm: float | None) -> None:
     try:
         session = load_session(session_toml)
         frames = {p: read_frame(p) for p in session_paths(session)}
-        report = check_session(session, frames, lens_mm=lens_mm)
+        distortion = None
+        if session.camera.profile is not None:
+            from beamwall.profile_io import load_profile
+
+            distortion = load_profile(session.camera.profile).distortion
+        report = check_session(session, frames, lens_mm=lens_mm, distortion=distortion)
     except BeamwallError as exc:
         click.echo(f"beamwall: error: {exc}", err=True)
         sys.exit(2)

@@ -274,7 +274,8 @@ def _turn_advice(sides: tuple[str, ...]) -> str:
 
 
 def _mapping_findings(
-    session: Session, frames: Mapping[Path, img.Frame], shape: tuple[int, int] | None
+    session: Session, frames: Mapping[Path, img.Frame], shape: tuple[int, int] | None,
+    distortion: Any = None,
 ) -> tuple[wall.WallMapping | None, list[Finding], tuple[int, ...] | None]:
     spec = session.wall
     out: list[Finding] = []
@@ -303,7 +304,8 @@ def _mapping_findings(
     try:
         m = markers.wall_mapping_from_markers(
             setup.pixels, markers_mm=spec.markers_mm or {},
-            marker_size_mm=float(spec.marker_size_mm or 0.0), detection=det)
+            marker_size_mm=float(spec.marker_size_mm or 0.0), detection=det,
+            distortion=distortion)
     except BeamwallError as exc:
         out.append(Finding(
             "markers", "fail", f"setup photo {setup.path.name}: {exc.message}",
@@ -610,6 +612,7 @@ def check_session(
     lens_mm: float | None = None,
     max_side_px: int = 800,
     camera_shift_check: bool = True,
+    distortion: Any = None,
 ) -> CheckReport:
     """Check a session's photos before the user leaves the setup.
 
@@ -626,6 +629,8 @@ def check_session(
     camera_shift_check : bool
         Compare the setup photo with each shot's dark frame and first image
         (:func:`beamwall.markers.camera_shift`).
+    distortion : beamwall.profile.LensDistortion, optional
+        The camera profile's lens distortion: marker corners are undistorted before the fit.
 
     Returns
     -------
@@ -638,7 +643,7 @@ def check_session(
         A photo of :func:`session_paths` is missing from ``frames``.
     """
     shape = frames[session.shots[0].images[0]].shape if session.shots else None
-    mapping, findings, found = _mapping_findings(session, frames, shape)
+    mapping, findings, found = _mapping_findings(session, frames, shape, distortion)
     shots: list[ShotCheck] = []
     for shot in session.shots:
         res, f = _shot_check(shot, session, frames, mapping, lens_mm=lens_mm,
