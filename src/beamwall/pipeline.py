@@ -57,7 +57,7 @@ from beamwall.figures import (
     throw_m,
 )
 from beamwall.profile_io import check_frame, load_profile, session_points_px
-from beamwall.provenance import sha256_file
+from beamwall.provenance import relative_path, sha256_file
 from beamwall.results import InputFile, SessionResult, ShotResult
 from beamwall.session import (
     CalibrationSession,
@@ -763,6 +763,10 @@ def measure_session(
             inputs.append(
                 InputFile("calibration", calibration_file, sha256_file(Path(calibration_file)))
             )
+    base = session.path.parent
+    inputs = [replace(i, path=relative_path(i.path, base)) for i in inputs]
+    results = [replace(r, inputs=tuple(replace(i, path=relative_path(i.path, base))
+                                       for i in r.inputs)) for r in results]
     return SessionResult(
         beamwall_version=__version__,
         calibrated=calibration is not None,
@@ -847,8 +851,9 @@ def calibrate_session(
             "reference lamp even near its axis, and the wall matte?"
         )
     inputs = (
-        {"role": "calibration session", "path": file, "sha256": sha256_file(cs.path)},
-        *({"role": i.role, "path": i.path, "sha256": i.sha256} for i in sig.inputs),
+        {"role": "calibration session", "path": cs.path.name, "sha256": sha256_file(cs.path)},
+        *({"role": i.role, "path": relative_path(i.path, cs.path.parent), "sha256": i.sha256}
+          for i in sig.inputs),
     )
     return Calibration(
         lux_per_signal=fit.lux_per_signal,

@@ -171,10 +171,11 @@ def build_profile(ps: ProfileSession) -> CameraProfile:
             warnings.append(f"[distortion] board corners reproject with {distortion.rms_px:.2f}"
                             " px RMS: a board not flat, or blurred photos?")
 
-    from beamwall.provenance import sha256_file
+    from beamwall.provenance import relative_path, sha256_file
 
-    inputs = ({"role": "profile session", "path": file, "sha256": sha256_file(ps.path)},) + \
-        tuple({"role": role, "path": str(f.path), "sha256": f.sha256}
+    inputs = ({"role": "profile session", "path": ps.path.name,
+               "sha256": sha256_file(ps.path)},) + \
+        tuple({"role": role, "path": relative_path(f.path, ps.path.parent), "sha256": f.sha256}
               for role, group in frames.items() for f in group)
     return CameraProfile(
         make=first.make, model=first.model, image_size_px=size, raw=first.raw,
