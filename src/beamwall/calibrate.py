@@ -84,6 +84,7 @@ class Calibration:
     beamwall_version: str | None = None
     inputs: tuple[dict[str, str], ...] = ()
     reference_spectrum: dict[str, Any] | None = None   # spectral.spectrum_to_dict of the ref.
+    spectral: dict[str, Any] | None = None   # fitted weights' f1' against Rec. 709's
 
     @property
     def relative_sigma(self) -> float:
@@ -150,6 +151,7 @@ def calibration_from_dict(data: dict[str, Any], *, file: str) -> Calibration:
         beamwall_version=data.get("beamwall_version"),
         inputs=tuple(data.get("inputs") or ()),
         reference_spectrum=data.get("reference_spectrum"),
+        spectral=data.get("spectral"),
     )
 
 

@@ -518,6 +518,8 @@ def analyse_shot(
         inputs=sig.inputs,
         mc_profiles=profiles,
         spectral_correction_factor=f_spec,
+        luminance_weights=(calibration.luminance_weights if calibration is not None
+                           else REC709_LUMINANCE_WEIGHTS),
         spectral_mismatch_f1_prime=(
             spectral_correction.spectral_mismatch_f1_prime
             if spectral_correction is not None else None),
@@ -717,6 +719,8 @@ def measure_session(
             mapping=mapping, where=where, file=file,
             fallback=dict(calibration.exposure) if calibration is not None else None,
             wall_points=session.wall.points,
+            weights=(calibration.luminance_weights if calibration is not None
+                     else REC709_LUMINANCE_WEIGHTS),
         )
         extra: list[str] = []
         if calibration is not None:
@@ -801,9 +805,19 @@ def calibrate_session(
     mapping = _mapping(cs.wall, file=file, camera=cs.camera)
     own = {"exposures_s": ref.exposures_s, "exposure_s": ref.exposure_s,
            "f_number": ref.f_number, "iso": ref.iso}
+    # With the camera's spectral sensitivity, the luminance signal uses the channel weights
+    # that bring it closest to V(lambda) (lowest f1'); measurements then use the same weights.
+    weights = REC709_LUMINANCE_WEIGHTS
+    spectral_note: dict[str, Any] | None = None
+    if cs.camera_sensitivity_csv is not None:
+        sens = spectra_io.read_camera_sensitivity_csv(cs.camera_sensitivity_csv)
+        wfit = spectral.optimal_weights(sens)
+        weights = (float(wfit.weights[0]), float(wfit.weights[1]), float(wfit.weights[2]))
+        spectral_note = {"camera_sensitivity": sens.description,
+                         "f1_prime": wfit.f1_prime, "rec709_f1_prime": wfit.rec709_f1_prime}
     sig = load_shot_signal(
         ref.images, ref.darks, camera=cs.camera, own=own, mapping=mapping,
-        where="[reference]", file=file, wall_points=cs.wall.points,
+        where="[reference]", file=file, wall_points=cs.wall.points, weights=weights,
     )
     fit: ReferenceFit
     if ref.intensity_cd is not None:
@@ -859,7 +873,7 @@ def calibrate_session(
         lux_per_signal=fit.lux_per_signal,
         lux_per_signal_sigma=fit.lux_per_signal_sigma,
         encoding=sig.encoding,
-        luminance_weights=REC709_LUMINANCE_WEIGHTS,
+        luminance_weights=weights,
         camera_make=f.make,
         camera_model=f.model,
         image_size_px=(f.shape[1], f.shape[0]),
@@ -876,4 +890,5 @@ def calibrate_session(
         beamwall_version=__version__,
         inputs=inputs,
         reference_spectrum=spectral.spectrum_to_dict(ref_sd),
+        spectral=spectral_note,
     )
