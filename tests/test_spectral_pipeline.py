@@ -11,12 +11,12 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from test_accuracy import CASES, write_case
 
 from beamwall import spectral
 from beamwall.constants import REC709_LUMINANCE_WEIGHTS
 from beamwall.pipeline import calibrate_session, measure_session
 from beamwall.session import load_calibration_session, load_session
-from test_accuracy import CASES, write_case
 
 
 def _write_sensitivity(path: Path) -> np.ndarray:
