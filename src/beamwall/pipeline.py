@@ -305,6 +305,7 @@ class _SpectralContext:
                  calibration_file: str | None) -> None:
         self.enabled = calibration is not None
         self.session = session
+        self.not_assessed: list[str] = []
         self.weights: tuple[float, float, float] = REC709_LUMINANCE_WEIGHTS
         self.camera = None
         self.reference = None
@@ -319,6 +320,16 @@ class _SpectralContext:
         self.weights = (calibration.luminance_weights if calibration is not None
                         else REC709_LUMINANCE_WEIGHTS)
 
+    def warnings(self) -> tuple[str, ...]:
+        """One session-level warning for the shots whose spectral mismatch was not assessed."""
+        if not self.not_assessed:
+            return ()
+        which = ("every shot" if len(self.not_assessed) == len(self.session.shots)
+                 else ", ".join(self.not_assessed))
+        return (f"spectral mismatch not assessed for {which} (no source_cct_k, "
+                "source_spectrum_csv or source_cie_illuminant, no camera sensitivity): factor "
+                "1.0, left out of the uncertainty",)
+
     def correction(self, shot: ShotSpec, *, file: str) -> spectral.SpectralCorrection | None:
         """F* for this shot; None when there is no calibration or nothing spectral is given.
 
@@ -330,12 +341,10 @@ class _SpectralContext:
         has_source = (shot.source_cct_k is not None or shot.source_spectrum_csv is not None
                       or shot.source_cie_illuminant is not None)
         if not has_source and self.camera is None:
+            self.not_assessed.append(shot.label)
             return spectral.SpectralCorrection(
                 spectral_correction_factor=1.0, spectral_correction_sigma=0.0,
                 spectral_mismatch_f1_prime=None, luminance_weights=self.weights,
-                warnings=("spectral mismatch not assessed (no source_cct_k, "
-                          "source_spectrum_csv or source_cie_illuminant): factor 1.0, "
-                          "left out of the uncertainty",),
             )
         reference = self.reference if self.reference is not None \
             else spectral.reference_spectrum()
@@ -782,7 +791,7 @@ def measure_session(
         modes=tuple(cmp.get("modes") or ()),
         electrical=cmp.get("electrical"),
         claims=tuple(cmp.get("claims") or ()),
-        warnings=tuple(mapping.warnings) + tuple(comparison.warnings),
+        warnings=tuple(mapping.warnings) + tuple(comparison.warnings) + spectral_ctx.warnings(),
         inputs=tuple(inputs),
         created_utc=_utc_now(),
         settings={
