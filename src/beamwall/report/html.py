@@ -883,9 +883,41 @@ def _shot_section(index: int, shot: ShotResult, session: SessionResult,
     return "".join(parts)
 
 
+#: Claim audit columns shown in the table (the reasons follow as a list).
+_CLAIM_COLUMNS: tuple[tuple[str, str], ...] = (
+    ("label", "shot"), ("figure", "figure"), ("claimed", "claimed"),
+    ("measured", "measured"), ("measured_sigma", "u (k = 1)"), ("ratio", "measured / claimed"),
+    ("consistent_range", "consistent range"), ("physical_limit", "physical limit"),
+    ("verdict", "verdict"),
+)
+
+
 def _claims_table(claims: Sequence[dict[str, Any]]) -> str:
-    keys = list(dict.fromkeys(k for c in claims for k in c))
-    return _table(keys, [[_plain(c.get(k)) for k in keys] for c in claims])
+    cols = [(k, h) for k, h in _CLAIM_COLUMNS if any(k in c for c in claims)]
+    table = _table([h for _, h in cols], [[_plain(c.get(k)) for k, _ in cols] for c in claims],
+                   numeric=tuple(i for i, (k, _) in enumerate(cols)
+                                 if k in ("claimed", "measured", "measured_sigma", "ratio")))
+    notes = []
+    for c in claims:
+        for reason in c.get("reasons") or ():
+            notes.append(f"<li><strong>{_e(c.get('label'))}, {_e(c.get('figure'))}:</strong> "
+                         f"{_e(reason)}</li>")
+    return table + (f"<ul class=\"reasons\">{''.join(notes)}</ul>" if notes else "")
+
+
+def _keyed_section(data: dict[str, Any], *, skip: Sequence[str] = ()) -> str:
+    """A mapping as a key/value table, with its 'reasons' and 'warnings' as lists below."""
+    rows = {k: v for k, v in data.items()
+            if k not in ("reasons", "warnings", *skip) and not isinstance(v, list)
+            or (isinstance(v, list) and v and not isinstance(v[0], dict)
+                and k not in ("reasons", "warnings"))}
+    out = _dict_table(rows)
+    for key in ("reasons", "warnings"):
+        items = data.get(key) or []
+        if items:
+            out += (f"<p class=\"meta\">{_e(key)}:</p><ul>"
+                    + "".join(f"<li>{_e(i)}</li>" for i in items) + "</ul>")
+    return out
 
 
 def _summary_table(session: SessionResult) -> str:
@@ -953,7 +985,12 @@ def render_html(session: SessionResult) -> str:
                                "Beam angle against peak intensity, one point per shot; "
                                "lines join shots of the same mode."))
             if session.zoom:
-                out.append(_dict_table(session.zoom))
+                out.append(_keyed_section(session.zoom))
+                settings = session.zoom.get("settings") or []
+                if settings and isinstance(settings[0], dict):
+                    keys = list(dict.fromkeys(k for r in settings for k in r))
+                    out.append(_table(keys, [[_plain(r.get(k)) for k in keys]
+                                             for r in settings]))
             out.append("</section>")
         ratios = mode_ratio_rows(session)
         if ratios:
@@ -966,7 +1003,7 @@ def render_html(session: SessionResult) -> str:
             out.append("</section>")
         if session.electrical:
             out.append("<section><h2>Electrical cross-check</h2>"
-                       + _dict_table(session.electrical) + "</section>")
+                       + _keyed_section(session.electrical) + "</section>")
         if session.claims:
             out.append("<section><h2>Claim audit</h2>" + _claims_table(session.claims)
                        + "</section>")
