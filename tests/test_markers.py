@@ -178,31 +178,21 @@ def _angles_ok(tmp_path):
     return result
 
 
-def _mapping_hook(spec, *, file, camera=None):
-    """The pipeline hook proposed to the lead (see the report)."""
-    from beamwall import images
-    from beamwall.errors import ImageError as _ImageError
-
-    if spec.points is not None:
-        pts = np.asarray(spec.points, dtype=np.float64)
-        return wall.fit_homography(pts[:, :2], pts[:, 2:])
-    frame = images.read_frame(spec.setup_image)
-    if frame is None:  # pragma: no cover
-        raise _ImageError("unreadable", file=spec.setup_image)
-    return markers.wall_mapping_from_markers(
-        frame.pixels, markers_mm=spec.markers_mm, marker_size_mm=spec.marker_size_mm,
-        source="[wall] setup_image")
-
-
-# The uncertainty propagation in the lead's pipeline warns when the mapping has no points
-# (a marker mapping); reported to the lead, filtered here until it handles markers.
-def test_end_to_end_with_the_proposed_hook(tmp_path, monkeypatch):
-    from beamwall import pipeline
-
-    monkeypatch.setattr(pipeline, "_mapping", _mapping_hook)
-    _angles_ok(tmp_path)
-
-
-
 def test_end_to_end_markers_only(tmp_path):
     _angles_ok(tmp_path)
+
+
+def test_measure_warns_when_the_camera_moved_after_the_setup_photo(tmp_path):
+    # The sheets stay on the wall for the beam photos, so they show fixed structure; the
+    # setup photo was taken 0.5 deg further left than the beam photos.
+    cam = pose(0.75, 0.1, 2.1, f_px=430.0)
+    moved = pose(0.75, 0.1, 2.1, f_px=430.0, yaw_extra=0.5)
+    (tmp_path / "a").mkdir()
+    (tmp_path / "b").mkdir()
+    same = measure_session(load_session(write_marker_session(
+        MarkerCase(camera=cam, sheets_in_beam_photos=True), tmp_path / "a")), None)
+    assert not any("shifted" in w for w in same.shots[0].warnings)
+    shifted = measure_session(load_session(write_marker_session(
+        MarkerCase(camera=cam, setup_camera=moved, sheets_in_beam_photos=True),
+        tmp_path / "b")), None)
+    assert any("shifted" in w for w in shifted.shots[0].warnings), shifted.shots[0].warnings

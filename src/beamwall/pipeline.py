@@ -720,6 +720,10 @@ def measure_session(
     inputs: list[InputFile] = [InputFile("session", file, sha256_file(session.path))]
     exposures_seen: list[linear.Exposure] = []
     spectral_ctx = _SpectralContext(session, calibration, calibration_file)
+    # With markers, each shot's photos are compared with the setup photo: a camera moved
+    # since then makes the mapping wrong (detectable where the photos share fixed structure).
+    setup_pixels = (img.read_frame(session.wall.setup_image).pixels
+                    if session.wall.setup_image is not None else None)
     for i, shot in enumerate(session.shots):
         progress(shot.label, i, total)
         where = shot_field(shot.number, shot.label)
@@ -732,6 +736,11 @@ def measure_session(
                      else REC709_LUMINANCE_WEIGHTS),
         )
         extra: list[str] = []
+        if setup_pixels is not None and setup_pixels.shape[:2] == sig.first_frame.shape:
+            moved = markers.moved_camera_warning(setup_pixels, sig.first_frame.pixels,
+                                                 name=sig.first_frame.path.name)
+            if moved:
+                extra.append(moved)
         if calibration is not None:
             extra = check_calibration(calibration, sig, force=force, file=calibration_file or "")
         corr = spectral_ctx.correction(shot, file=file)
