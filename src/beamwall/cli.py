@@ -239,6 +239,11 @@ def _print_result(result: Any, outdir: Path) -> None:
     for w in result.warnings:
         click.echo(f"warning: {w}", err=True)
     click.echo(f"wrote {outdir / 'results.json'}")
+    extras = [p.name for p in (outdir / "report.html", outdir / "figures.csv") if p.exists()]
+    n_ies = len(list(outdir.glob("*.ies")))
+    if extras or n_ies:
+        listed = ", ".join(extras + ([f"{n_ies} IES LM-63 files"] if n_ies else []))
+        click.echo(f"      {listed} (open {outdir / 'report.html'} in a browser)")
 
 
 @main.command()
