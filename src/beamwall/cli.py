@@ -256,7 +256,8 @@ def _print_result(result: Any, outdir: Path) -> None:
 @click.option("--force", is_flag=True,
               help="Overwrite existing outputs; apply a calibration made for another camera.")
 @click.option("--no-uncertainty", is_flag=True,
-              help="Skip the Monte Carlo uncertainty (faster; no sigmas in the results).")
+              help="Skip the Monte Carlo uncertainty (faster): the sigmas are then a "
+                   "first-order estimate from the calibration and the distances only.")
 @_guard
 def measure(session_toml: Path, outdir: Path, calibration: Path | None, force: bool,
             no_uncertainty: bool) -> None:

@@ -707,7 +707,8 @@ def measure_session(
         Apply a calibration made for another camera or encoding (with a warning).
     progress : callable, keyword-only
     uncertainty : bool, keyword-only
-        Run the Monte Carlo uncertainty (default); without it the sigmas are absent.
+        Run the Monte Carlo uncertainty (default); without it the sigmas are the first-order
+        estimate of :func:`analyse_shot` (calibration, distances, grid resolution).
 
     Returns
     -------
