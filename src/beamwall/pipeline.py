@@ -518,7 +518,7 @@ def analyse_shot(
         beam_angle_max_deg=beam.max_deg,
         field_angle_min_deg=field.min_deg,
         field_angle_max_deg=field.max_deg,
-        relative_peak_signal=peak / k,
+        relative_peak_signal=peak * f_spec / k,  # signal units x m^2, spectral factor kept
         distance_m=distance_m,
         cone_half_angle_deg=cone_deg,
         cone_flux=cone_flux,
