@@ -191,5 +191,8 @@ def test_figures_within_tolerance(case, tmp_path):
             "peak": tr.peak_intensity_cd, "flux": flux_true, "throw": tr.throw_m}
     errors = {k: (got[k] - want[k]) / want[k] for k in got}
     bad = {k: f"{100 * v:+.2f} %" for k, v in errors.items() if abs(v) > TOL[k]}
+    # The total-flux bound must hold (it rests on intensity falling off beyond the cone),
+    # within the flux tolerance.
+    assert shot.flux_total_max_lm >= tr.total_flux_lm * (1 - TOL["flux"])
     everything = {k: round(100 * v, 2) for k, v in errors.items()}
     assert not bad, f"{case.name}: {bad} (all, %: {everything})"

@@ -315,3 +315,18 @@ def test_zoom_tie_between_modes_goes_to_the_brightest():
     z = zoom_summary([wide_low, narrow_low, wide, narrow])
     assert z.compared_mode == "high"
     assert z.narrow_label == "max zoom, low" and z.wide_label == "min zoom, low"
+
+
+def test_flux_claim_between_cone_flux_and_total_bound_is_consistent():
+    # The cone flux is a lower bound of a total-flux claim; up to the bound (plus the same
+    # margin, scaled) the claim cannot be called overstated.
+    m, u, upper = 800.0, 10.0, 1000.0
+    margin = 2 * u + 0.1 * m
+    inside = audit_claim("s", "flux_lm", 1050.0, m, measured_sigma=u, measured_upper=upper)
+    assert inside.verdict == "consistent"
+    assert inside.consistent_range[1] == pytest.approx(upper + margin * upper / m)
+    assert inside.ratio == pytest.approx(m / 1050.0)  # ratio stays measured / claimed
+    above = audit_claim("s", "flux_lm", 1300.0, m, measured_sigma=u, measured_upper=upper)
+    assert above.verdict == "overstated"
+    without = audit_claim("s", "flux_lm", 1050.0, m, measured_sigma=u)
+    assert without.verdict == "overstated"

@@ -73,3 +73,14 @@ def test_saturated_fraction_of_field_region():
     frac = saturated_fraction(g2, peak=100.0)
     inside_field = (grid.values >= 10.0).sum()
     assert frac == pytest.approx((grid.values > 90.0).sum() / inside_field, rel=0.05)
+
+
+def test_total_flux_upper_bound_is_exact_for_a_uniform_source():
+    # Uniform I: cone 2 pi I (1 - cos a) plus annulus 2 pi I cos a = 2 pi I, the hemisphere's
+    # flux (photometry handbook, uniform-cone formula).
+    from beamwall.figures import total_flux_upper_bound
+
+    i_cd, a = 500.0, 40.0
+    cone = 2 * np.pi * i_cd * (1 - np.cos(np.radians(a)))
+    assert total_flux_upper_bound(cone, i_cd, half_angle_deg=a) == pytest.approx(
+        2 * np.pi * i_cd)

@@ -736,6 +736,7 @@ def audit_claim(
     physical_limit: float | None = None,
     limit_reason: str | None = None,
     flux_basis: str | None = None,
+    measured_upper: float | None = None,
 ) -> ClaimCheck:
     """Judge one claimed figure against its measurement and the physical limit.
 
@@ -760,6 +761,10 @@ def audit_claim(
         How that limit was found, for the reasons.
     flux_basis : str, optional
         For a flux claim, the key the measured flux came from.
+    measured_upper : float, optional
+        When the measurement is a lower bound (the flux inside the photographed cone of a
+        total-flux claim), an upper bound of the true figure: the consistent range then
+        reaches up to it (plus the same margin, scaled).
 
     Returns
     -------
@@ -814,6 +819,8 @@ def audit_claim(
         m = float(measured)
         margin = 2.0 * (sigma or 0.0) + tolerance_fraction * abs(m)
         rng = (m - margin, m + margin)
+        if measured_upper is not None and math.isfinite(measured_upper) and measured_upper > m:
+            rng = (m - margin, measured_upper + margin * measured_upper / max(abs(m), 1e-300))
         ratio = m / claimed
     if limit is not None and claimed > limit:
         verdict = _IMPOSSIBLE
@@ -834,7 +841,13 @@ def audit_claim(
             f"measured {m:.4g} {unit} ({sig}); claims within {max(rng[0], 0.0):.4g}-"
             f"{rng[1]:.4g} {unit} (k=2 interval plus {100 * tolerance_fraction:g} %) count as "
             f"consistent; measured/claimed = {ratio:.3g}")
-        if figure == "flux_lm" and flux_basis == "flux_lm" and verdict == _OVER:
+        if measured_upper is not None and figure == "flux_lm":
+            reasons.append(
+                f"the measured flux counts the light within the photographed cone only; the "
+                f"total is at most {measured_upper:.4g} {unit} (the cone's edge intensity "
+                "spread over the rest of the hemisphere), so claims up to that count as "
+                "consistent")
+        elif figure == "flux_lm" and flux_basis == "flux_lm" and verdict == _OVER:
             reasons.append("the measured flux counts the light within the measured cone "
                            "only; light outside it would add to the total")
     return ClaimCheck(label=label, figure=figure, claimed=claimed, measured=m, ratio=ratio,
@@ -927,11 +940,12 @@ def audit_claims(
             m, u, basis = total_flux_lm, total_flux_sigma_lm, total_flux_basis
         else:
             m, u, basis = shot.flux_lm, shot.flux_sigma_lm, "flux_lm"
+        upper = shot.flux_total_max_lm if basis == "flux_lm" else None
         out.append(audit_claim(
             shot.label, "flux_lm", claimed_lm, m, measured_sigma=u,
             tolerance_fraction=tolerance_fraction,
             physical_limit=None if bound is None else bound.max_flux_lm,
-            limit_reason=limit_reason, flux_basis=basis))
+            limit_reason=limit_reason, flux_basis=basis, measured_upper=upper))
     i_max = None
     i_reason = None
     if bound is not None and ratio_sr is not None:

@@ -36,6 +36,7 @@ __all__ = [
     "saturated_fraction",
     "clipped_peak_fraction",
     "CONE_STEP_DEG",
+    "total_flux_upper_bound",
 ]
 
 #: Resolution of the flux cone's half angle (the contract reports it "to 0.1 deg").
@@ -142,6 +143,27 @@ def cumulative_cone_flux(
                        minlength=n - 1)
     flux = np.concatenate([[0.0], np.cumsum(sums[: n - 1])])
     return half_angle_deg, flux
+
+
+def total_flux_upper_bound(
+    cone_flux: float, edge_intensity: float, *, half_angle_deg: float
+) -> float:
+    """Upper bound of a torch's total flux from the flux inside a cone and its edge intensity.
+
+    When, in every azimuth, the intensity beyond the cone stays at or below its value at the
+    cone's edge, the light outside the cone (towards the wall's hemisphere) is at most
+    integral of I_e(phi) sin(theta) dtheta dphi from alpha to 90 deg = 2 pi <I_e> cos(alpha),
+    <I_e> the edge intensity averaged over azimuth [Ryer] (the uniform-cone formula over the
+    annulus). The assumption holds for reflector and optic beams, whose spill falls off
+    outwards (common practice, no source).
+
+    Examples
+    --------
+    >>> round(total_flux_upper_bound(100.0, 10.0, half_angle_deg=60.0), 2)  # + 2 pi 10 0.5
+    131.42
+    """
+    return float(cone_flux + 2.0 * np.pi * max(edge_intensity, 0.0)
+                 * np.cos(np.radians(half_angle_deg)))
 
 
 def largest_cone_half_angle_deg(radius_mm: float, *, distance_m: float) -> float:

@@ -55,6 +55,7 @@ from beamwall.figures import (
     largest_cone_half_angle_deg,
     saturated_fraction,
     throw_m,
+    total_flux_upper_bound,
 )
 from beamwall.profile_io import check_frame, load_profile, session_points_px
 from beamwall.provenance import relative_path, sha256_file
@@ -464,6 +465,14 @@ def analyse_shot(
         fill=fill,
     )
     flux = float(cone_flux[-1]) if alpha > 0 else None
+    flux_max = None
+    if flux is not None:
+        # The cone edge's intensity, averaged over azimuth (smoothed map): with each azimuth
+        # falling off beyond its edge value, the light outside is at most 2 pi <I_e> cos(a).
+        k_edge = int(np.searchsorted(dist.theta_deg, alpha))
+        rows = dist.intensity[max(k_edge - 1, 0):k_edge + 1]
+        edge = float(np.nanmean(np.nanmax(rows, axis=0))) if np.isfinite(rows).any() else 0.0
+        flux_max = total_flux_upper_bound(flux, edge, half_angle_deg=alpha)
     if alpha <= 0:
         warnings.append("the beam axis is at the photo's edge: no flux cone fits in the photo")
 
@@ -518,6 +527,7 @@ def analyse_shot(
         beam_angle_max_deg=beam.max_deg,
         field_angle_min_deg=field.min_deg,
         field_angle_max_deg=field.max_deg,
+        flux_total_max_lm=flux_max if calibrated else None,
         relative_peak_signal=peak * f_spec / k,  # signal units x m^2, spectral factor kept
         distance_m=distance_m,
         cone_half_angle_deg=cone_deg,

@@ -81,6 +81,7 @@ class ShotResult:
     field_angle_min_deg: float | None = None
     field_angle_max_deg: float | None = None
     relative_peak_signal: float | None = None    # peak in uncalibrated signal units * m^2
+    flux_total_max_lm: float | None = None       # upper bound of the total flux (see figures)
     distance_m: float | None = None
     claims: tuple[dict[str, Any], ...] = ()
     electrical: dict[str, Any] | None = None

@@ -31,7 +31,7 @@ SHOT_KEYS: tuple[str, ...] = (
     "field_angle_deg", "field_angle_sigma_deg",
     "peak_intensity_cd", "peak_intensity_sigma_cd",
     "throw_m", "throw_sigma_m",
-    "flux_lm", "flux_sigma_lm", "flux_half_angle_deg",
+    "flux_lm", "flux_sigma_lm", "flux_half_angle_deg", "flux_total_max_lm",
     "axis_mm", "saturated_fraction",
     "relative_peak_intensity", "relative_flux",
     "spectral_correction_factor", "spectral_correction_sigma",
