@@ -47,6 +47,7 @@ CSV_COLUMNS: tuple[str, ...] = (
     "flux_lm",
     "flux_sigma_lm",
     "flux_half_angle_deg",
+    "flux_total_max_lm",
     "relative_peak_intensity",
     "relative_flux",
     "axis_x_mm",

@@ -437,6 +437,8 @@ def figure_rows(shot: ShotResult) -> list[tuple[str, str, str, str]]:
         (f"Throw (to {THROW_ILLUMINANCE_LX} lx)", _fmt_sig(shot.throw_m),
          _fmt_sig(shot.throw_sigma_m, 2), "m"),
         (flux_name, _fmt_sig(shot.flux_lm), _fmt_sig(shot.flux_sigma_lm, 2), "lm"),
+        ("Total flux, at most (edge intensity beyond the cone)",
+         _fmt_sig(shot.flux_total_max_lm), "—", "lm"),
         ("Peak relative to the first shot", _fmt(shot.relative_peak_intensity, 3), "—", "1"),
         ("Flux relative to the first shot", _fmt(shot.relative_flux, 3), "—", "1"),
         ("Beam axis on the wall (x, y)",
