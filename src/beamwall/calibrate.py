@@ -30,7 +30,7 @@ from typing import Any
 
 import numpy as np
 
-from beamwall.distribution import grid_coordinates_mm
+from beamwall.distribution import grid_coordinates_mm, grid_cos3
 from beamwall.errors import CalibrationError
 from beamwall.wall import WallGrid
 
@@ -232,10 +232,9 @@ def fit_lamp_reference(
     K = sum(E_expected) / sum(S) over the disc of half angle ``LAMP_DISC_HALF_ANGLE_DEG``,
     E_expected = I_ref cos^3(theta) / d_ref^2 [Ryer]; the lamp is taken as even within it.
     """
-    x_mm, y_mm = grid_coordinates_mm(signal)
     d_mm = distance_m * 1000.0
-    cos_t = d_mm / np.sqrt(d_mm**2 + (x_mm - axis_mm[0]) ** 2 + (y_mm - axis_mm[1]) ** 2)
-    expected = intensity_cd * cos_t**3 / distance_m**2
+    expected = intensity_cd * grid_cos3(signal, axis_mm=axis_mm, distance_m=distance_m) \
+        / distance_m**2
     radius = d_mm * np.tan(np.radians(LAMP_DISC_HALF_ANGLE_DEG))
     k, stat_rel, cells = _disc_fit(
         signal, expected, centre_mm=axis_mm, radius_mm=radius,

@@ -21,7 +21,7 @@ References
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import replace
 
 import cv2
 import numpy as np
@@ -29,10 +29,11 @@ import numpy as np
 from beamwall.constants import BEAM_LEVEL_FRACTION, FIELD_LEVEL_FRACTION
 from beamwall.errors import ImageError
 from beamwall.results import Distribution
-from beamwall.wall import WallGrid
+from beamwall.wall import WallGrid, obliquity_cos3
 
 __all__ = [
     "grid_coordinates_mm",
+    "grid_cos3",
     "coarsen",
     "smoothed_intensity",
     "smooth_nan",
@@ -69,11 +70,24 @@ def grid_coordinates_mm(grid: WallGrid) -> tuple[np.ndarray, np.ndarray]:
     return x_mm, y_mm
 
 
-def _cos_theta(grid: WallGrid, axis_mm: tuple[float, float], distance_m: float) -> np.ndarray:
+def grid_cos3(grid: WallGrid, *, axis_mm: tuple[float, float], distance_m: float) -> np.ndarray:
+    """cos^3 of each cell's polar angle seen from the torch (:func:`wall.obliquity_cos3`).
+
+    Returns
+    -------
+    (ny, nx) float32 ndarray
+
+    Examples
+    --------
+    >>> g = WallGrid(np.zeros((1, 2), np.float32), np.zeros((1, 2), bool),
+    ...              np.ones((1, 2), bool), x0_mm=0.0, y0_mm=0.0, step_mm=1000.0,
+    ...              footprint_mm=np.zeros((4, 2)))
+    >>> [round(float(v), 4) for v in grid_cos3(g, axis_mm=(0.0, 0.0), distance_m=1.0)[0]]
+    [1.0, 0.3536]
+    """
     x_mm, y_mm = grid_coordinates_mm(grid)
-    d_mm = distance_m * 1000.0
-    r2 = (x_mm - axis_mm[0]) ** 2 + (y_mm - axis_mm[1]) ** 2
-    return (d_mm / np.sqrt(d_mm * d_mm + r2)).astype(np.float32)
+    return obliquity_cos3(x_mm, y_mm, axis_mm=axis_mm, distance_m=distance_m).astype(
+        np.float32)
 
 
 def smooth_nan(values: np.ndarray, sigma_cells: float) -> np.ndarray:
@@ -139,8 +153,8 @@ def intensity_map(
     >>> [round(float(v), 3) for v in im.values[0]]  # on axis 4*1^2; at 45 deg 4/cos^3(45)
     [4.0, 11.314]
     """
-    cos_t = _cos_theta(illuminance, axis_mm, distance_m)
-    values = illuminance.values * np.float32(distance_m**2) / cos_t**3
+    cos3 = grid_cos3(illuminance, axis_mm=axis_mm, distance_m=distance_m)
+    values = illuminance.values * np.float32(distance_m**2) / cos3
     return replace(illuminance, values=values.astype(np.float32))
 
 
@@ -411,13 +425,6 @@ def _drop_short_runs(above: np.ndarray, min_run: int) -> np.ndarray:
             if b - a + 1 < min_run and b < n - 1:
                 out[a:b + 1, j] = False
     return out
-
-
-@dataclass(frozen=True)
-class _PolarSamples:
-    theta_deg: np.ndarray
-    phi_deg: np.ndarray
-    values: np.ndarray
 
 
 def _sample_polar(

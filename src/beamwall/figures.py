@@ -24,7 +24,6 @@ from beamwall.constants import (
     THROW_ILLUMINANCE_LX,
 )
 from beamwall.distribution import grid_coordinates_mm
-from beamwall.results import Distribution
 from beamwall.wall import WallGrid
 
 __all__ = [
@@ -218,7 +217,3 @@ def clipped_peak_fraction(
     n = int(region.sum())
     return float((region & intensity.saturated).sum() / n) if n else 0.0
 
-
-def describe_distribution(dist: Distribution) -> tuple[AngleSummary, AngleSummary]:
-    """Beam (50 %) and field (10 %) angle summaries of a distribution."""
-    return angle_summary(dist.beam_half_angle_deg), angle_summary(dist.field_half_angle_deg)

@@ -41,7 +41,7 @@ from beamwall.compare import session_comparisons
 from beamwall.constants import REC709_LUMINANCE_WEIGHTS
 from beamwall.distribution import (
     find_axis,
-    grid_coordinates_mm,
+    grid_cos3,
     intensity_map,
     polar_distribution,
     smooth_nan,
@@ -477,12 +477,10 @@ def analyse_shot(
         warnings.append("the beam axis is at the photo's edge: no flux cone fits in the photo")
 
     # What the Monte Carlo needs, in signal units before the calibration constant.
-    x_mm, y_mm = grid_coordinates_mm(grid)
-    d_mm = distance_m * 1000.0
-    cos3 = (d_mm / np.sqrt(d_mm**2 + (x_mm - axis[0]) ** 2 + (y_mm - axis[1]) ** 2)) ** 3
+    cos3 = grid_cos3(grid, axis_mm=axis, distance_m=distance_m)
     smoothed_e = (smoothed[0] * cos3 / (distance_m**2 * k)).astype(np.float32)
     profiles = sample_profiles(
-        grid, smoothed_e, axis_mm=axis, distance_m=distance_m, dist=dist, peak_intensity=peak,
+        grid, smoothed_e, axis_mm=axis, distance_m=distance_m, dist=dist,
         flux_half_angle_deg=alpha if alpha > 0 else None, sigma_cells=smoothed[1],
         source_pixels_per_cell=sig.source_pixels_per_cell,
         k_sigma_fraction=(spectral_correction.spectral_correction_sigma / f_spec

@@ -443,7 +443,7 @@ def _shot_check(
     # Relative intensity I ~ E / cos^3(theta) (the wall's obliquity), else the signal.
     if wxy is not None and axis_mm is not None:
         r = np.hypot(wxy[..., 0] - axis_mm[0], wxy[..., 1] - axis_mm[1])
-        cos3 = (d_mm / np.sqrt(d_mm**2 + r**2)) ** 3
+        cos3 = wall.obliquity_cos3(r, 0.0, axis_mm=(0.0, 0.0), distance_m=d_mm / 1000.0)
         inten = smooth / cos3
         theta = np.degrees(np.arctan2(r, d_mm))
     else:

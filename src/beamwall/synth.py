@@ -1368,6 +1368,71 @@ def _signal_rows(
     return beam_part[:, :, None] * rgb + amb_part[:, :, None]
 
 
+def sensor_dn(
+    signal: np.ndarray,
+    sensor: SensorModel,
+    rng: np.random.Generator,
+    *,
+    noise: bool = True,
+    gain: float = 1.0,
+) -> np.ndarray:
+    """The sensor's digital numbers for a focal-plane signal: electrons, noise, levels.
+
+    Parameters
+    ----------
+    signal : ndarray, any shape
+        Fraction of full scale (1 = ``full_well_e`` electrons), >= 0.
+    sensor : SensorModel
+    rng : numpy.random.Generator
+        Draws the Poisson shot noise, then the Gaussian read noise.
+    noise : bool, keyword-only
+        False: the expected electrons, no noise.
+    gain : float, keyword-only
+        Extra gain after the sensor (1: none).
+
+    Returns
+    -------
+    ndarray, float64, same shape
+        DN = black + gain x electrons x DN-per-electron, rounded and clipped to [0, white].
+
+    Examples
+    --------
+    >>> s = SensorModel()
+    >>> float(sensor_dn(np.array([0.0]), s, np.random.default_rng(0), noise=False)[0])
+    1024.0
+    >>> float(sensor_dn(np.array([2.0]), s, np.random.default_rng(0), noise=False)[0])
+    65535.0
+    """
+    lam = np.minimum(np.maximum(signal, 0.0) * sensor.full_well_e, 4.0 * sensor.full_well_e)
+    if noise:
+        electrons = rng.poisson(lam).astype(np.float64)
+        if sensor.read_noise_e > 0:
+            electrons += rng.normal(0.0, sensor.read_noise_e, size=lam.shape)
+    else:
+        electrons = lam
+    black, white = float(sensor.black_level_dn), float(sensor.white_level_dn)
+    return np.clip(np.rint(black + gain * electrons * sensor.gain_dn_per_e), 0.0, white)
+
+
+def encode_dn(dn: np.ndarray, sensor: SensorModel, encoding: str) -> np.ndarray:
+    """A photo's stored values from the sensor's DN: 16-bit linear, or 8-bit sRGB.
+
+    ``"linear"``: the DN as uint16; ``"srgb"``: (DN - black) / (white - black) through the
+    sRGB curve [IEC]_, 8 bits.
+
+    Examples
+    --------
+    >>> s = SensorModel()
+    >>> encode_dn(np.array([1024.0, 65535.0]), s, "srgb").tolist()
+    [0, 255]
+    """
+    if encoding == "linear":
+        return dn.astype(np.uint16)
+    black, white = float(sensor.black_level_dn), float(sensor.white_level_dn)
+    lin = np.clip((dn - black) / (white - black), 0.0, 1.0)
+    return np.rint(255.0 * srgb_encode(lin)).astype(np.uint8)
+
+
 def _check_render_args(supersample: int) -> None:
     if int(supersample) != supersample or supersample < 1:
         raise InputError(f"must be a positive integer, got {supersample!r}", field="supersample")
@@ -1495,28 +1560,13 @@ def render(
     nch = 1 if grey else 3
     dtype = np.uint8 if encoding == "srgb" else np.uint16
     out = np.empty((pose.height_px, pose.width_px, nch), dtype=dtype)
-    black = float(sensor.black_level_dn)
-    white = float(sensor.white_level_dn)
-    gain = sensor.gain_dn_per_e
     chunks = _row_chunks(pose, supersample)
     for r0 in chunks:
         r1 = min(r0 + chunks.step, pose.height_px)
         sig = _signal_rows(
             scene, r0, r1, scale=scale, beam_on=beam_on, supersample=supersample, grey=grey
         )
-        lam = np.minimum(sig * sensor.full_well_e, 4.0 * sensor.full_well_e)
-        if noise:
-            electrons = rng.poisson(lam).astype(np.float64)
-            if sensor.read_noise_e > 0:
-                electrons += rng.normal(0.0, sensor.read_noise_e, size=lam.shape)
-        else:
-            electrons = lam
-        dn = np.clip(np.rint(black + electrons * gain), 0.0, white)
-        if encoding == "linear":
-            out[r0:r1] = dn.astype(np.uint16)
-        else:
-            lin = np.clip((dn - black) / (white - black), 0.0, 1.0)
-            out[r0:r1] = np.rint(255.0 * srgb_encode(lin)).astype(np.uint8)
+        out[r0:r1] = encode_dn(sensor_dn(sig, sensor, rng, noise=noise), sensor, encoding)
     return out[:, :, 0] if grey else out
 
 

@@ -293,16 +293,8 @@ def expose(signal: np.ndarray, sensor: synth.SensorModel, *, output: str, tone: 
         mosaic[1::2, 0::2] = sig[1::2, 0::2, 1]
         mosaic[1::2, 1::2] = sig[1::2, 1::2, 2]
         sig = mosaic
-    rng = np.random.default_rng(seed)
-    lam = np.minimum(np.maximum(sig, 0.0) * sensor.full_well_e, 4.0 * sensor.full_well_e)
-    if noise:
-        electrons = rng.poisson(lam).astype(np.float64)
-        if sensor.read_noise_e > 0:
-            electrons += rng.normal(0.0, sensor.read_noise_e, size=lam.shape)
-    else:
-        electrons = lam
+    dn = synth.sensor_dn(sig, sensor, np.random.default_rng(seed), noise=noise, gain=gain)
     black, white = float(sensor.black_level_dn), float(sensor.white_level_dn)
-    dn = np.clip(np.rint(black + gain * electrons * sensor.gain_dn_per_e), 0.0, white)
     if output in ("raw", "linear"):
         return dn.astype(np.uint16)
     lin = np.clip((dn - black) / (white - black), 0.0, 1.0)

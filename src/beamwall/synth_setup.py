@@ -335,21 +335,8 @@ def replace_reflectance(scene: synth.Scene) -> synth.Scene:
 def _sensor_output(sig: np.ndarray, sensor: synth.SensorModel, *, encoding: str,
                    seed: int | None, noise: bool, grey: bool) -> np.ndarray:
     """Electrons, noise, digital numbers and encoding, as :func:`beamwall.synth.render`."""
-    rng = np.random.default_rng(seed)
-    lam = np.minimum(sig * sensor.full_well_e, 4.0 * sensor.full_well_e)
-    if noise:
-        electrons = rng.poisson(lam).astype(np.float64)
-        if sensor.read_noise_e > 0:
-            electrons += rng.normal(0.0, sensor.read_noise_e, size=lam.shape)
-    else:
-        electrons = lam
-    black, white = float(sensor.black_level_dn), float(sensor.white_level_dn)
-    dn = np.clip(np.rint(black + electrons * sensor.gain_dn_per_e), 0.0, white)
-    if encoding == "linear":
-        out = dn.astype(np.uint16)
-    else:
-        lin = np.clip((dn - black) / (white - black), 0.0, 1.0)
-        out = np.rint(255.0 * synth.srgb_encode(lin)).astype(np.uint8)
+    dn = synth.sensor_dn(sig, sensor, np.random.default_rng(seed), noise=noise)
+    out = synth.encode_dn(dn, sensor, encoding)
     return out[:, :, 0] if grey else out
 
 

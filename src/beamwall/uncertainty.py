@@ -267,7 +267,6 @@ def sample_profiles(
     axis_mm: tuple[float, float],
     distance_m: float,
     dist: Distribution,
-    peak_intensity: float,
     flux_half_angle_deg: float | None,
     sigma_cells: float,
     source_pixels_per_cell: float,
@@ -287,8 +286,6 @@ def sample_profiles(
     axis_mm, distance_m : the shot's axis and torch distance
     dist : Distribution
         The measured distribution (per-azimuth crossings set the sampling windows).
-    peak_intensity : float
-        The measured peak in the same units as ``dist`` (for the peak's position).
     flux_half_angle_deg : float or None
     sigma_cells, source_pixels_per_cell : float
         The smoothing width and the photo pixels per cell, for the noise model.
@@ -317,7 +314,7 @@ def sample_profiles(
 
     x_mm, y_mm = grid_coordinates_mm(illuminance)
     r_cells = np.sqrt((x_mm - axis_mm[0]) ** 2 + (y_mm - axis_mm[1]) ** 2)
-    cos3 = (d_mm / np.sqrt(d_mm**2 + r_cells**2)) ** 3
+    cos3 = wall.obliquity_cos3(r_cells, 0.0, axis_mm=(0.0, 0.0), distance_m=distance_m)
     i_rel = np.where(np.isfinite(smoothed_e) & ~sat, smoothed_e / cos3, -np.inf)
     idx = int(np.argmax(i_rel))
     peak_r = float(r_cells.flat[idx])
@@ -345,7 +342,6 @@ def sample_profiles(
     field_noise = _crossing_noise_deg(
         fr, fe, dist.field_half_angle_deg[:: max(1, len(dist.phi_deg) // n_phi)][:n_phi],
         FIELD_LEVEL_FRACTION * peak_e, noise, distance_m=distance_m, corr_mm=corr_mm)
-    del peak_intensity
     return BeamProfiles(
         axis_mm=axis_mm, distance_m=distance_m, phi_rad=phi,
         beam_r_mm=br, beam_e=be, field_r_mm=fr, field_e=fe,
@@ -415,7 +411,7 @@ def _figures_for(
         return np.hypot(out[..., 0] - a2[0], out[..., 1] - a2[1])
 
     def intensity(e: np.ndarray, r: np.ndarray) -> np.ndarray:
-        cos3 = (d_mm / np.sqrt(d_mm**2 + r**2)) ** 3
+        cos3 = wall.obliquity_cos3(r, 0.0, axis_mm=(0.0, 0.0), distance_m=distance_m)
         return e * (distance_m**2) / cos3
 
     peak_r = prof.peak_r_mm
